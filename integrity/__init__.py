@@ -1,0 +1,3 @@
+"""integrity: validate, solve and convert molecular Hamiltonian integral files."""
+
+__version__ = "0.1.0"

@@ -1,0 +1,179 @@
+"""The ``integrity`` command: a thin layer over the library.
+
+Exit status: 0 success (every file passes); 1 at least one file failed a check
+(or ``diagnose`` found a mismatch); 2 a file could not be read, or the command
+was used wrongly. Errors are one line on stderr naming the file and the field;
+``--debug`` shows the traceback instead.
+"""
+
+from __future__ import annotations
+
+import functools
+import json
+import click
+
+from . import __version__
+from .errors import IntegrityError
+from .io import DEFAULT_MEMORY, load, parse_bytes, save
+
+EXIT_OK, EXIT_FAILED, EXIT_UNUSABLE = 0, 1, 2
+
+
+class MemorySize(click.ParamType):
+    """A memory size such as 512MiB or 4GiB."""
+
+    name = "size"
+
+    def convert(self, value, param, ctx):
+        if isinstance(value, int):
+            return value
+        try:
+            return parse_bytes(value)
+        except ValueError as err:
+            self.fail(str(err), param, ctx)
+
+
+MEMORY = MemorySize()
+
+
+def guarded(command):
+    """Turn the project's errors into one line on stderr and exit status 2."""
+
+    @functools.wraps(command)
+    def wrapper(*args, **kwargs):
+        ctx = click.get_current_context()
+        try:
+            return command(*args, **kwargs)
+        except IntegrityError as err:
+            if ctx.find_root().params.get("debug"):
+                raise
+            click.echo(f"error: {err}", err=True)
+            ctx.exit(EXIT_UNUSABLE)
+
+    return wrapper
+
+
+@click.group(context_settings={"help_option_names": ["-h", "--help"]})
+@click.version_option(__version__, prog_name="integrity")
+@click.option("--debug", is_flag=True, help="Show a traceback instead of a one-line error.")
+def main(debug):
+    """Validate, solve and convert molecular Hamiltonian files (HDF5 and JSON).
+
+    \b
+    Examples:
+      integrity check fixtures/
+      integrity show fixtures/good/water_sto3g.h5
+      integrity solve fixtures/good/hubbard_ring6.json --roots 3
+    """
+
+
+@main.command()
+@click.argument("file", type=click.Path(dir_okay=False))
+@click.option("--format", "output_format", type=click.Choice(["text", "json"]), default="text",
+              show_default=True, help="Text for people, JSON for programs.")
+@click.option("--memory", type=MEMORY, default=str(DEFAULT_MEMORY), show_default="4GiB",
+              help="Largest array the file may declare.")
+@guarded
+def show(file, output_format, memory):
+    """Summarize FILE: basis, counts, notation, storage, norms, fingerprint, references.
+
+    \b
+    Example:
+      integrity show fixtures/good/lih_sto3g.h5
+    """
+    from .summary import render_summary, summarize
+
+    summary = summarize(load(file, memory=memory))
+    if output_format == "json":
+        click.echo(json.dumps({"path": file, **summary}, indent=2))
+    else:
+        click.echo(render_summary(file, summary))
+
+
+@main.command()
+@click.argument("arrays", type=click.Path(exists=True, dir_okay=False))
+@click.argument("out", type=click.Path(dir_okay=False))
+@click.option("--notation", type=click.Choice(["chemist", "physicist"]), required=True,
+              help="Index order of two_electron: chemist (pq|rs) or physicist <pq|rs>.")
+@click.option("--alpha", type=click.IntRange(min=0), required=True, help="Alpha electrons.")
+@click.option("--beta", type=click.IntRange(min=0), required=True, help="Beta electrons.")
+@click.option("--basis", type=click.Choice(["restricted", "unrestricted", "spin-orbital"]), required=True,
+              help="Orbital basis of the arrays.")
+@click.option("--spin-layout", type=click.Choice(["interleaved", "blocked"]),
+              help="Required for --basis spin-orbital.")
+@click.option("--storage", type=click.Choice(["dense", "pairs", "unique"]),
+              help="Storage of two_electron; read from its number of axes when omitted.")
+@click.option("--core-energy", type=float,
+              help="Energy with no electron operator (hartree); required when the .npz has no core_energy.")
+@click.option("--interaction", type=click.Choice(["coulomb", "model"]), help="Default coulomb.")
+@click.option("--antisymmetrized", is_flag=True, help="two_electron holds <pq||rs> (spin-orbital physicist).")
+@click.option("--title", help="One line for people.")
+@click.option("--force", is_flag=True, help="Replace OUT if it exists.")
+@guarded
+def wrap(arrays, out, notation, alpha, beta, basis, spin_layout, storage, core_energy, interaction,
+         antisymmetrized, title, force):
+    """Wrap plain arrays from ARRAYS.npz (one_electron, two_electron, optional core_energy,
+    irreps) into a Hamiltonian file OUT. Notation, electron counts and basis are never guessed.
+
+    \b
+    Example:
+      integrity wrap ints.npz h2.h5 --notation chemist --alpha 1 --beta 1 --basis restricted
+    """
+    from .wrap import wrap_arrays
+
+    ham = wrap_arrays(
+        arrays, notation=notation, alpha=alpha, beta=beta, basis=basis, spin_layout=spin_layout,
+        storage=storage, core_energy=core_energy, interaction=interaction,
+        antisymmetrized=antisymmetrized or None, title=title,
+    )
+    save(ham, out, force=force)
+    click.echo(f"wrote {out}")
+
+
+def _active(ctx, param, value):
+    if value is None:
+        return None
+    try:
+        electrons, orbitals = (int(part) for part in value.split(","))
+    except ValueError:
+        raise click.BadParameter("expected ELECTRONS,ORBITALS such as 6,6") from None
+    if electrons < 0 or orbitals < 1:
+        raise click.BadParameter("needs electrons >= 0 and orbitals >= 1")
+    return electrons, orbitals
+
+
+@main.command()
+@click.argument("out", type=click.Path(dir_okay=False))
+@click.option("--atom", required=True, help='Geometry inline ("H 0 0 0; H 0 0 0.74") or an .xyz file.')
+@click.option("--unit", type=click.Choice(["angstrom", "bohr"]), default="angstrom", show_default=True)
+@click.option("--basis", "basis_set", required=True, help="Gaussian basis set, e.g. sto-3g, cc-pvdz.")
+@click.option("--charge", type=int, default=0, show_default=True)
+@click.option("--two-s", type=click.IntRange(min=0), default=0, show_default=True,
+              help="2S of the state: 0 singlet, 1 doublet, 2 triplet.")
+@click.option("--active", callback=_active, help="Active space ELECTRONS,ORBITALS; the rest frozen as core.")
+@click.option("--unrestricted", is_flag=True, help="UHF orbitals (an unrestricted file).")
+@click.option("--no-symmetry", is_flag=True, help="Do not detect the point group.")
+@click.option("--max-fci-determinants", type=click.IntRange(min=1), default=1_000_000, show_default=True,
+              help="Store an fci reference only for spaces up to this size.")
+@click.option("--title", help="One line for people.")
+@click.option("--force", is_flag=True, help="Replace OUT if it exists.")
+@guarded
+def build(out, atom, unit, basis_set, charge, two_s, active, unrestricted, no_symmetry,
+          max_fci_determinants, title, force):
+    """Build a Hamiltonian file OUT from a molecule with pyscf (SCF, optional active space,
+    hf and fci references, provenance).
+
+    \b
+    Example:
+      integrity build h2.h5 --atom "H 0 0 0; H 0 0 1.4" --unit bohr --basis sto-3g
+    """
+    from .build import build as build_hamiltonian
+
+    ham = build_hamiltonian(
+        atom, basis_set, unit=unit, charge=charge, two_s=two_s, unrestricted=unrestricted,
+        active=active, symmetry=not no_symmetry, max_fci_determinants=max_fci_determinants, title=title,
+    )
+    save(ham, out, force=force)
+    energies = ", ".join(f"{r.label} {r.energy:.10f}" for r in ham.references)
+    click.echo(f"wrote {out}: {ham.n} {ham.basis} orbitals, {energies}")
+

@@ -1,0 +1,70 @@
+"""Write a file so that an interrupted write never leaves a half file under its name.
+
+The data goes to a hidden temporary file in the target folder (same file
+system, so the final step is a rename), is flushed to disk, then moved into
+place. Without ``force`` the move is a hard link, which fails if the target
+appeared meanwhile, so an existing file is never replaced by accident.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import os
+import tempfile
+from pathlib import Path
+
+from ..errors import ContainerError, OverwriteError
+
+
+@contextlib.contextmanager
+def atomic_output(path, *, force: bool = False):
+    """Yield a temporary path next to ``path``; on success move it to ``path``.
+
+    >>> import tempfile, pathlib
+    >>> folder = pathlib.Path(tempfile.mkdtemp())
+    >>> with atomic_output(folder / "a.txt") as tmp:
+    ...     _ = tmp.write_text("hello")
+    >>> (folder / "a.txt").read_text()
+    'hello'
+    >>> with atomic_output(folder / "a.txt") as tmp:
+    ...     _ = tmp.write_text("again")
+    Traceback (most recent call last):
+    ...
+    integrity.errors.OverwriteError: ...a.txt: exists; pass force=True (--force) to replace it
+    """
+    target = Path(path)
+    if target.exists() and not force:
+        raise OverwriteError(None, "exists; pass force=True (--force) to replace it", str(target))
+    folder = target.parent if str(target.parent) else Path(".")
+    if not folder.is_dir():
+        raise ContainerError(None, f"folder {str(folder)!r} does not exist", str(target))
+    fd, tmp_name = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".part", dir=folder)
+    os.close(fd)
+    tmp = Path(tmp_name)
+    try:
+        yield tmp
+        _flush_to_disk(tmp)
+        if force:
+            os.replace(tmp, target)
+        else:
+            _move_without_clobbering(tmp, target)
+    finally:
+        with contextlib.suppress(FileNotFoundError):
+            tmp.unlink()
+
+
+def _flush_to_disk(path: Path) -> None:
+    with open(path, "rb") as handle:
+        os.fsync(handle.fileno())
+
+
+def _move_without_clobbering(tmp: Path, target: Path) -> None:
+    try:
+        os.link(tmp, target)
+    except FileExistsError:
+        raise OverwriteError(None, "exists; pass force=True (--force) to replace it", str(target)) from None
+    except OSError:
+        # file systems without hard links: the exists() test above is the guard
+        if target.exists():
+            raise OverwriteError(None, "exists; pass force=True (--force) to replace it", str(target)) from None
+        os.replace(tmp, target)

@@ -1,0 +1,316 @@
+"""The HDF5 container (h5py).
+
+Layout (format.md): root attributes ``format``, ``format_version``,
+``energy_unit``, ``title``, ``core_energy``, ``checksum``; groups
+``orbitals`` (attributes, dataset ``irreps``), ``electrons``,
+``core_energy_parts``, ``references/<label>`` (attributes; groups
+``electrons`` and ``occupation`` with datasets ``alpha``, ``beta``),
+``provenance`` (attributes, dataset ``history`` of JSON strings); datasets
+``one_electron`` and ``two_electron`` (attributes ``notation``, ``storage``,
+``interaction``, ``antisymmetrized``).
+
+Reading accepts any chunking, compression and byte order, strings stored
+fixed-length or variable-length, complex values as h5py's (r, i) compound or
+any compound of two float64 fields, and booleans stored as integers 0/1
+(HDF5 has no native boolean). In messages an HDF5 location is written as
+``/group/dataset`` and an attribute as ``/group@name`` (``/@name`` at the root).
+"""
+
+from __future__ import annotations
+
+import json
+
+import h5py
+import numpy as np
+
+from ..errors import ContainerError, FieldError
+from .atomic import atomic_output
+from .content import history_entry_from_text
+from .document import Document, check_declared_size
+
+ARRAY_DATASETS = ("one_electron", "two_electron")
+BOOLEAN_ATTRIBUTES = ("canonical", "antisymmetrized")
+_SMALL_DATASET_LIMIT = 10**6
+
+
+class StoredArray:
+    """A lazily read HDF5 dataset presented as float64 or complex128 in native byte order.
+
+    Slicing reads only the slice. ``shape`` and ``dtype`` are available without reading.
+    """
+
+    def __init__(self, dataset: h5py.Dataset, name: str):
+        self.dataset = dataset
+        self.name = name
+        self.shape = tuple(dataset.shape)
+        stored = dataset.dtype
+        self._fields = None
+        if stored.names is not None and len(stored.names) == 2 and all(
+            stored.fields[f][0].kind == "f" and stored.fields[f][0].itemsize == 8 for f in stored.names
+        ):
+            self._fields = stored.names
+            self.dtype = np.dtype(np.complex128)
+        else:
+            self.dtype = stored.newbyteorder("=") if stored.byteorder not in ("=", "|") else stored
+
+    @property
+    def nbytes(self) -> int:
+        return int(np.prod(self.shape, dtype=np.int64)) * self.dtype.itemsize
+
+    def __getitem__(self, key):
+        try:
+            raw = self.dataset[key]
+        except OSError as err:
+            raise ContainerError(self.name, f"cannot read the data ({err}); the file may be truncated or damaged") from None
+        if self._fields is not None:
+            real, imag = self._fields
+            out = np.empty(raw.shape, dtype=np.complex128)
+            out.real, out.imag = raw[real], raw[imag]
+            return out
+        return np.asarray(raw, dtype=self.dtype)
+
+    def __array__(self, dtype=None, copy=None):
+        data = self[()]
+        return data if dtype is None else data.astype(dtype)
+
+
+def _plain(value):
+    """An attribute value as a plain Python value."""
+    if isinstance(value, bytes | np.bytes_):
+        return value.decode("utf-8")
+    if isinstance(value, np.ndarray):
+        if value.ndim == 0:
+            return _plain(value[()])
+        return [_plain(v) for v in value.tolist()]
+    if isinstance(value, np.bool_):
+        return bool(value)
+    if isinstance(value, np.integer):
+        return int(value)
+    if isinstance(value, np.floating):
+        return float(value)
+    if isinstance(value, h5py.Empty):
+        return None
+    return value
+
+
+def _attributes(obj) -> dict:
+    out = {}
+    for key, value in obj.attrs.items():
+        value = _plain(value)
+        if key in BOOLEAN_ATTRIBUTES and type(value) is int and value in (0, 1):
+            value = bool(value)
+        out[key] = value
+    return out
+
+
+def _small_dataset(dataset: h5py.Dataset, location: str):
+    if dataset.size > _SMALL_DATASET_LIMIT:
+        raise FieldError(location, f"holds {dataset.size} elements; a metadata list this long is not plausible")
+    try:
+        values = dataset[()]
+    except OSError as err:
+        raise ContainerError(location, f"cannot read ({err}); the file may be truncated") from None
+    if dataset.dtype.kind in "SO" or h5py.check_string_dtype(dataset.dtype) is not None:
+        return [_plain(v) for v in np.atleast_1d(values).tolist()]
+    return _plain(np.atleast_1d(values))
+
+
+def _read_group(group: h5py.Group, prefix: str, arrays: dict) -> dict:
+    node = _attributes(group)
+    for key, member in group.items():
+        location = f"{prefix}/{key}"
+        if isinstance(member, h5py.Group):
+            node[key] = _read_group(member, location, arrays)
+        elif isinstance(member, h5py.Dataset):
+            if prefix == "" and key in ARRAY_DATASETS:
+                stored = StoredArray(member, key)
+                arrays[key] = stored
+                node[key] = {"shape": list(stored.shape), "dtype": stored.dtype.name} | _attributes(member)
+            else:
+                node[key] = _small_dataset(member, location)
+        else:
+            node[key] = None  # a soft link to nothing, or an unknown object
+    return node
+
+
+_DATASETS = {("one_electron",), ("two_electron",), ("orbitals", "irreps"), ("provenance", "history")}
+_GROUPS = {("orbitals",), ("electrons",), ("core_energy_parts",), ("references",), ("provenance",)}
+
+
+def location(path: tuple) -> str:
+    """HDF5 location of a tree path: groups and datasets by path, attributes after ``@``.
+
+    >>> location(("two_electron", "notation")), location(("core_energy",))
+    ('/two_electron@notation', '/@core_energy')
+    >>> location(("references", "hf", "occupation", "alpha")), location(("references", "hf"))
+    ('/references/hf/occupation/alpha', '/references/hf')
+    """
+    parts = tuple(str(p) for p in path)
+    if not parts:
+        return "/"
+    in_reference = parts[0] == "references"
+    is_dataset = parts in _DATASETS or (in_reference and len(parts) == 4 and parts[2] == "occupation")
+    is_group = parts in _GROUPS or (
+        in_reference and (len(parts) == 2 or (len(parts) == 3 and parts[2] in ("electrons", "occupation")))
+    )
+    if is_dataset or is_group:
+        return "/" + "/".join(parts)
+    return "/" + "/".join(parts[:-1]) + "@" + parts[-1]
+
+
+def read(path: str, *, memory: int, lazy: bool = False) -> Document:
+    """Open an HDF5 Hamiltonian file.
+
+    Declared array sizes are checked against ``memory`` (bytes) before any
+    array is read; with ``lazy`` the arrays stay on disk as :class:`StoredArray`
+    (readable until the document is closed).
+    """
+    handle = _open(path)
+    try:
+        arrays: dict = {}
+        tree = _read_group(handle, "", arrays)
+    except Exception:
+        handle.close()
+        raise
+    return Document(
+        path=str(path), container="hdf5", tree=tree, locate=location,
+        decoder=lambda: _content(tree, arrays, memory, lazy), closer=handle.close,
+    )
+
+
+def _open(path) -> h5py.File:
+    try:
+        return h5py.File(path, "r")
+    except FileNotFoundError:
+        raise ContainerError(None, "no such file", str(path)) from None
+    except OSError as err:
+        text = str(err)
+        if "truncated" in text:
+            reason = f"truncated HDF5 file ({_detail(text)}); the transfer may be incomplete"
+        elif "signature" in text:
+            reason = "not an HDF5 file (no HDF5 signature at the start)"
+        else:
+            reason = f"cannot open as HDF5 ({_detail(text)})"
+        raise ContainerError(None, reason, str(path)) from None
+
+
+def _detail(text: str) -> str:
+    inner = text[text.find("(") + 1 : text.rfind(")")] if "(" in text else text
+    return inner or text
+
+
+def _content(tree: dict, arrays: dict, memory: int, lazy: bool) -> dict:
+    content = {k: v for k, v in tree.items() if k not in ("references", "provenance", *ARRAY_DATASETS)}
+    for key in ARRAY_DATASETS:
+        if key not in arrays:
+            continue
+        stored = arrays[key]
+        if not lazy:
+            check_declared_size(key, stored.shape, stored.dtype.itemsize, memory)
+            array = stored[()]
+        else:
+            array = stored
+        if key == "two_electron":
+            flags = {k: v for k, v in tree[key].items() if k not in ("shape", "dtype")}
+            content[key] = {"array": array, **flags}
+        else:
+            content[key] = array
+    if "references" in tree and isinstance(tree["references"], dict):
+        content["references"] = [_reference(label, node) for label, node in tree["references"].items()]
+    if "provenance" in tree and isinstance(tree["provenance"], dict):
+        provenance = dict(tree["provenance"])
+        if "history" in provenance and isinstance(provenance["history"], list):
+            provenance["history"] = [history_entry_from_text(step) for step in provenance["history"]]
+        content["provenance"] = provenance
+    return content
+
+
+def _reference(label: str, node) -> dict:
+    entry = dict(node) if isinstance(node, dict) else {}
+    entry["label"] = label
+    return entry
+
+
+def write(content: dict, path, *, force: bool = False, compression: str | None = None,
+          compression_opts=None, chunks=None) -> None:
+    """Write a content dict as an HDF5 file, atomically (see :mod:`integrity.io.atomic`).
+
+    ``compression`` is None, ``"gzip"`` or ``"lzf"``; ``chunks`` as h5py takes it.
+    Lazy arrays (:class:`StoredArray`) are copied slab by slab.
+    """
+    if compression not in (None, "gzip", "lzf"):
+        raise FieldError("compression", f"{compression!r} is not offered; use 'gzip' or 'lzf'")
+    options = {"compression": compression, "compression_opts": compression_opts, "chunks": chunks}
+    with atomic_output(path, force=force) as tmp, h5py.File(tmp, "w", track_order=True) as out:
+        for key in ("format", "format_version", "energy_unit", "title", "core_energy", "checksum"):
+            if key in content:
+                out.attrs[key] = content[key]
+        orbitals = out.create_group("orbitals", track_order=True)
+        for key, value in content["orbitals"].items():
+            if key == "irreps":
+                orbitals.create_dataset("irreps", data=np.asarray(value, dtype=np.int64))
+            else:
+                orbitals.attrs[key] = value
+        _attribute_group(out, "electrons", content["electrons"])
+        if "core_energy_parts" in content:
+            _attribute_group(out, "core_energy_parts", content["core_energy_parts"])
+        _write_array(out, "one_electron", content["one_electron"], options)
+        two = content["two_electron"]
+        dataset = _write_array(out, "two_electron", two["array"], options)
+        for key, value in two.items():
+            if key != "array":
+                dataset.attrs[key] = value
+        if content.get("references"):
+            _write_references(out, content["references"])
+        if "provenance" in content:
+            _write_provenance(out, content["provenance"])
+
+
+def _attribute_group(parent, name, values: dict):
+    group = parent.create_group(name, track_order=True)
+    for key, value in values.items():
+        group.attrs[key] = value
+    return group
+
+
+def _write_array(parent, name, array, options):
+    opts = {k: v for k, v in options.items() if v is not None}
+    if isinstance(array, StoredArray):
+        dataset = parent.create_dataset(name, shape=array.shape, dtype=array.dtype, **opts)
+        rows = max(1, (64 * 2**20) // max(1, array.nbytes // max(1, array.shape[0])))
+        for start in range(0, array.shape[0], rows):
+            dataset[start : start + rows] = array[start : start + rows]
+        return dataset
+    data = np.asarray(array)
+    if data.ndim == 0 or data.size == 0:
+        opts.pop("chunks", None)
+        opts.pop("compression", None)
+        opts.pop("compression_opts", None)
+    return parent.create_dataset(name, data=data, **opts)
+
+
+def _write_references(out, references):
+    group = out.create_group("references", track_order=True)
+    for entry in references:
+        node = group.create_group(entry["label"], track_order=True)
+        for key, value in entry.items():
+            if key == "label":
+                continue
+            if key == "electrons":
+                _attribute_group(node, "electrons", value)
+            elif key == "occupation":
+                occ = node.create_group("occupation", track_order=True)
+                for spin in ("alpha", "beta"):
+                    occ.create_dataset(spin, data=np.asarray(value[spin], dtype=np.int64))
+            else:
+                node.attrs[key] = value
+
+
+def _write_provenance(out, provenance):
+    group = out.create_group("provenance", track_order=True)
+    for key, value in provenance.items():
+        if key == "history":
+            texts = [step if isinstance(step, str) else json.dumps(step, sort_keys=True) for step in value]
+            group.create_dataset("history", data=np.array(texts, dtype=h5py.string_dtype()), dtype=h5py.string_dtype())
+        else:
+            group.attrs[key] = value

@@ -1,0 +1,73 @@
+"""Wrap plain arrays into a Hamiltonian, stating every convention explicitly."""
+
+from __future__ import annotations
+
+import zipfile
+
+import numpy as np
+
+from .errors import ContainerError, FieldError
+from .model import Electrons, Hamiltonian, Orbitals, TwoElectron
+
+KNOWN_KEYS = ("one_electron", "two_electron", "core_energy", "irreps")
+#: storage read from the number of axes of two_electron, per basis
+STORAGE_BY_NDIM = {
+    "restricted": {4: "dense", 2: "pairs", 1: "unique"},
+    "spin-orbital": {4: "dense", 2: "pairs", 1: "unique"},
+    "unrestricted": {5: "dense", 3: "pairs"},
+}
+
+
+def read_npz(path) -> dict[str, np.ndarray]:
+    """The arrays of an .npz file; refuses keys it would ignore."""
+    try:
+        with np.load(path, allow_pickle=False) as archive:
+            arrays = {key: archive[key] for key in archive.files}
+    except (zipfile.BadZipFile, ValueError, OSError) as err:
+        raise ContainerError(None, f"not a readable .npz archive ({err})", str(path)) from None
+    unknown = sorted(set(arrays) - set(KNOWN_KEYS))
+    if unknown:
+        raise FieldError(unknown[0], f"unknown array in the archive; expected {KNOWN_KEYS}", str(path))
+    for key in ("one_electron", "two_electron"):
+        if key not in arrays:
+            raise FieldError(key, "missing from the archive", str(path))
+    return arrays
+
+
+def wrap_arrays(path, *, notation, alpha, beta, basis, spin_layout=None, storage=None,
+                core_energy=None, interaction=None, antisymmetrized=None, title=None) -> Hamiltonian:
+    """A Hamiltonian from an .npz of plain arrays and explicitly stated conventions.
+
+    The core energy must come from the archive or the caller: a missing
+    constant is one of the faults this project exists to catch.
+    """
+    arrays = read_npz(path)
+    if "core_energy" in arrays and core_energy is not None:
+        raise FieldError("core_energy", "given both in the archive and on the command line; give it once", str(path))
+    if "core_energy" not in arrays and core_energy is None:
+        raise FieldError("core_energy", "not in the archive; state it with --core-energy (0 if there is none)",
+                         str(path))
+    ecore = float(arrays["core_energy"]) if "core_energy" in arrays else float(core_energy)
+    one = np.asarray(arrays["one_electron"])
+    two = np.asarray(arrays["two_electron"])
+    one = one.astype(np.complex128 if one.dtype.kind == "c" else np.float64, copy=False)
+    two = two.astype(np.complex128 if two.dtype.kind == "c" else np.float64, copy=False)
+    if storage is None:
+        storage = STORAGE_BY_NDIM[basis].get(two.ndim)
+        if storage is None:
+            raise FieldError("two_electron", f"{two.ndim} axes fit no storage of a {basis} file", str(path))
+    count = one.shape[-1]
+    irreps = tuple(int(i) for i in arrays["irreps"]) if "irreps" in arrays else None
+    try:
+        return Hamiltonian(
+            orbitals=Orbitals(count=count, basis=basis, spin_layout=spin_layout, irreps=irreps),
+            electrons=Electrons(alpha, beta),
+            core_energy=ecore,
+            one_electron=one,
+            two_electron=TwoElectron(two, notation=notation, storage=storage, interaction=interaction,
+                                     antisymmetrized=antisymmetrized),
+            title=title,
+            provenance={"producer": "integrity wrap", "source": str(path)},
+        )
+    except FieldError as err:
+        raise err.in_file(path) from None
