@@ -10,6 +10,8 @@ Unrestricted arrays are walked block by block, in the order [aa, ab, bb].
 
 from __future__ import annotations
 
+import contextlib
+import contextvars
 from collections.abc import Iterator
 
 import numpy as np
@@ -17,10 +19,22 @@ import numpy as np
 from .indexing import chemist_to_physicist, pair_table, pairs_from_unique
 
 DEFAULT_SLAB_BYTES = 64 * 2**20
+_slab_bytes = contextvars.ContextVar("slab_bytes", default=DEFAULT_SLAB_BYTES)
 
 
-def slab_rows(n: int, itemsize: int, slab_bytes: int = DEFAULT_SLAB_BYTES) -> int:
+@contextlib.contextmanager
+def slab_budget(slab_bytes: int):
+    """Within this block, slabs default to at most ``slab_bytes`` (a memory budget)."""
+    token = _slab_bytes.set(max(1, int(slab_bytes)))
+    try:
+        yield
+    finally:
+        _slab_bytes.reset(token)
+
+
+def slab_rows(n: int, itemsize: int, slab_bytes: int | None = None) -> int:
     """How many first-index rows of an n^4 array fit in ``slab_bytes`` (at least one)."""
+    slab_bytes = _slab_bytes.get() if slab_bytes is None else slab_bytes
     return max(1, min(n, slab_bytes // max(1, n**3 * itemsize)))
 
 
@@ -46,7 +60,7 @@ class _Block:
 
 
 def chemist_slabs(
-    block, notation: str, storage: str, n: int, slab_bytes: int = DEFAULT_SLAB_BYTES,
+    block, notation: str, storage: str, n: int, slab_bytes: int | None = None,
     antisymmetrized: bool = False,
 ) -> Iterator[tuple[int, np.ndarray]]:
     """Yield (p0, slab) covering one spin block as dense chemist ``chem[p0:p0+len]``.
@@ -92,3 +106,44 @@ def dense_chemist(two_electron, basis: str, n: int) -> np.ndarray:
             full[p0 : p0 + len(slab)] = slab
         out.append(full)
     return np.stack(out) if basis == "unrestricted" else out[0]
+
+
+def chemist_row(block, notation: str, storage: str, n: int, p: int, q: int) -> np.ndarray:
+    """``chem[p, q, :, :]`` of one spin block, reading only that row where the storage allows."""
+    if storage == "dense":
+        if notation == "physicist":
+            return np.asarray(block[p, :, q, :])  # chem[p,q,r,s] = phys[p,r,q,s]
+        return np.asarray(block[p, q])
+    table = pair_table(n)
+    index = int(table[p, q])
+    if storage == "pairs":
+        row = np.asarray(block[index])
+    else:
+        npair = n * (n + 1) // 2
+        row = pairs_from_unique(np.asarray(block[()]), npair)[index]
+    return row[table]
+
+
+def chemist_column(block, notation: str, storage: str, n: int, r: int, s: int) -> np.ndarray:
+    """``chem[:, :, r, s]`` of one spin block."""
+    if storage == "dense":
+        if notation == "physicist":
+            return np.asarray(block[:, r, :, s])  # chem[p,q,r,s] = phys[p,r,q,s]
+        return np.asarray(block[:, :, r, s])
+    table = pair_table(n)
+    index = int(table[r, s])
+    if storage == "pairs":
+        column = np.asarray(block[:, index])
+    else:
+        column = pairs_from_unique(np.asarray(block[()]), n * (n + 1) // 2)[:, index]
+    return column[table]
+
+
+def exchange_diagonal(block, notation: str, storage: str, n: int) -> np.ndarray:
+    """``G[a, b] = chem[a, b, b, a]`` of one spin block (the exchange integrals (ab|ba))."""
+    diagonal = np.empty((n, n), dtype=block.dtype)
+    b_index = np.arange(n)
+    for p0, slab in chemist_slabs(block, notation, storage, n):
+        rows = np.arange(len(slab))
+        diagonal[p0 : p0 + len(slab)] = slab[rows[:, None], b_index[None, :], b_index[None, :], (rows + p0)[:, None]]
+    return diagonal

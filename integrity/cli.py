@@ -67,6 +67,75 @@ def main(debug):
     """
 
 
+def _tolerance(ctx, param, values):
+    out = {}
+    for text in values:
+        name, sep, number = text.partition("=")
+        try:
+            if not sep:
+                raise ValueError
+            out[name.strip()] = float(number)
+        except ValueError:
+            raise click.BadParameter(f"expected ID=VALUE such as energy.hf=1e-8, got {text!r}") from None
+        if not out[name.strip()] > 0:
+            raise click.BadParameter(f"a tolerance must be positive, got {text!r}")
+    return out
+
+
+ENGINES = click.Choice(["native", "pyscf", "both"])
+
+
+@main.command()
+@click.argument("paths", nargs=-1, required=True, type=click.Path(exists=True))
+@click.option("--format", "output_format", type=click.Choice(["text", "json"]), default="text",
+              show_default=True, help="Text for people, JSON (schemas/report.schema.json) for programs.")
+@click.option("--select", multiple=True, metavar="ID", help="Run only this check (repeatable).")
+@click.option("--skip", multiple=True, metavar="ID", help="Do not run this check (repeatable).")
+@click.option("--tolerance", multiple=True, metavar="ID=VALUE", callback=_tolerance,
+              help="Limit for one check, e.g. energy.hf=1e-8 (repeatable).")
+@click.option("--engine", type=ENGINES, default="native", show_default=True,
+              help="Full-CI engine for energy.fci; both: a disagreement fails.")
+@click.option("--memory", type=MEMORY, default=str(DEFAULT_MEMORY), show_default="4GiB",
+              help="Memory budget; larger arrays are checked block by block.")
+@click.option("--strict", is_flag=True, help="A warning fails the file.")
+@click.option("--list", "list_checks", is_flag=True, help="List the check ids and exit.")
+@guarded
+def check(paths, output_format, select, skip, tolerance, engine, memory, strict, list_checks):
+    """Check Hamiltonian files; folders are searched for *.h5, *.hdf5 and *.json.
+
+    Prints one line per passing file and, for a failing file, one line per
+    failing check with its value, limit, where and likely cause. Exit status
+    0 all pass, 1 a file failed, 2 a file could not be read.
+
+    \b
+    Examples:
+      integrity check fixtures/good
+      integrity check run.h5 --select energy.hf --tolerance energy.hf=1e-8
+      integrity check data/ --format json > report.json
+    """
+    from .checks import REGISTRY, check_ids, check_paths, find_files
+    from .report import render_text, report_document
+
+    if list_checks:
+        for check_id in check_ids():
+            spec = REGISTRY[check_id]
+            limit = "" if spec.limit is None else f" (limit {spec.limit:g})"
+            click.echo(f"{check_id:<24}{spec.summary}{limit}")
+        return
+    if not find_files(paths):
+        raise click.UsageError("no *.h5, *.hdf5 or *.json files under the paths given")
+    reports = check_paths(paths, select=select, skip=skip, tolerances=tolerance, memory=memory,
+                          engine=engine, strict=strict)
+    if output_format == "json":
+        click.echo(json.dumps(report_document(reports, strict), indent=2))
+    else:
+        click.echo(render_text(reports, strict))
+    if any(r.status == "error" for r in reports):
+        raise SystemExit(EXIT_UNUSABLE)
+    if any(r.status == "fail" for r in reports):
+        raise SystemExit(EXIT_FAILED)
+
+
 @main.command()
 @click.argument("file", type=click.Path(dir_okay=False))
 @click.option("--format", "output_format", type=click.Choice(["text", "json"]), default="text",

@@ -30,6 +30,7 @@ __all__ = [
     "Document",
     "container_of",
     "format_bytes",
+    "hamiltonian_of",
     "load",
     "open_document",
     "parse_bytes",
@@ -47,7 +48,7 @@ def container_of(path) -> str:
     return EXTENSIONS[suffix]
 
 
-def open_document(path, *, memory: int = DEFAULT_MEMORY, lazy: bool = False) -> Document:
+def open_document(path, *, memory: int = DEFAULT_MEMORY, lazy: bool | str = False) -> Document:
     """Open a file and read its metadata tree; arrays are decoded on demand.
 
     Raises ContainerError when the file is not one of ours (unreadable

@@ -158,12 +158,13 @@ def location(path: tuple) -> str:
     return "/" + "/".join(parts[:-1]) + "@" + parts[-1]
 
 
-def read(path: str, *, memory: int, lazy: bool = False) -> Document:
+def read(path: str, *, memory: int, lazy: bool | str = False) -> Document:
     """Open an HDF5 Hamiltonian file.
 
     Declared array sizes are checked against ``memory`` (bytes) before any
     array is read; with ``lazy`` the arrays stay on disk as :class:`StoredArray`
-    (readable until the document is closed).
+    (readable until the document is closed); ``lazy="auto"`` keeps on disk only
+    arrays larger than a quarter of ``memory``.
     """
     handle = _open(path)
     try:
@@ -205,7 +206,8 @@ def _content(tree: dict, arrays: dict, memory: int, lazy: bool) -> dict:
         if key not in arrays:
             continue
         stored = arrays[key]
-        if not lazy:
+        keep_on_disk = lazy is True or (lazy == "auto" and stored.nbytes > memory // 4)
+        if not keep_on_disk:
             check_declared_size(key, stored.shape, stored.dtype.itemsize, memory)
             array = stored[()]
         else:
@@ -229,6 +231,26 @@ def _reference(label: str, node) -> dict:
     entry = dict(node) if isinstance(node, dict) else {}
     entry["label"] = label
     return entry
+
+
+def tree_of_content(content: dict) -> dict:
+    """The tree an HDF5 reader would see for this content (what the schema validates)."""
+    tree = {k: v for k, v in content.items() if k not in ("references", "provenance", *ARRAY_DATASETS)}
+    for key in ARRAY_DATASETS:
+        if key in content:
+            node = content[key]
+            array = node["array"] if key == "two_electron" else node
+            flags = {k: v for k, v in node.items() if k != "array"} if key == "two_electron" else {}
+            tree[key] = {"shape": list(array.shape), "dtype": np.dtype(array.dtype).name} | flags
+    if content.get("references"):
+        tree["references"] = {e["label"]: {k: v for k, v in e.items() if k != "label"} for e in content["references"]}
+    if "provenance" in content:
+        provenance = dict(content["provenance"])
+        if "history" in provenance:
+            provenance["history"] = [s if isinstance(s, str) else json.dumps(s, sort_keys=True)
+                                     for s in provenance["history"]]
+        tree["provenance"] = provenance
+    return tree
 
 
 def write(content: dict, path, *, force: bool = False, compression: str | None = None,

@@ -1,0 +1,271 @@
+"""Checks of form: schema, shapes, finite values, electron counts, core energy parts, checksum."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from ..fingerprint import fingerprint
+from ..model import shape_problems
+from ..schema import schema_problems
+from .registry import Result, outcome, register, skipped
+
+MAX_LISTED = 5
+
+
+def _listing(problems, locate) -> str:
+    shown = "; ".join(f"{locate(p.path)}: {p.message}" for p in problems[:MAX_LISTED])
+    more = f"; and {len(problems) - MAX_LISTED} more" if len(problems) > MAX_LISTED else ""
+    return shown + more
+
+
+@register("schema", needs_hamiltonian=False)
+def check_schema(ham, ctx) -> Result:
+    """The metadata against schemas/hamiltonian.schema.json (JSON text or HDF5 tree)."""
+    doc = ctx.document
+    if doc is None:
+        from ..io.hdf5 import location, tree_of_content
+        from ..io.content import content_from_hamiltonian
+
+        tree, entry, locate = tree_of_content(content_from_hamiltonian(ham)), "hdf5_tree", location
+    else:
+        tree, entry, locate = doc.tree, doc.schema_entry, doc.locate
+    problems = schema_problems(tree, entry)
+    build_error = getattr(ctx, "build_error", None)
+    if problems:
+        return Result("schema", "fail", f"{len(problems)} schema problem(s): {_listing(problems, locate)}",
+                      value=float(len(problems)), limit=0.0, where=locate(problems[0].path))
+    if build_error is not None and not _is_shape_error(build_error):
+        return Result("schema", "fail", f"the metadata is inconsistent: {build_error}",
+                      value=1.0, limit=0.0, where=build_error.field)
+    return Result("schema", "pass", f"the metadata follows the schema ({entry})", value=0.0, limit=0.0)
+
+
+def _is_shape_error(error) -> bool:
+    return bool(error.field) and error.field.split(".")[0].strip("/") in ("one_electron", "two_electron")
+
+
+def declared_arrays(doc) -> dict | None:
+    """Shapes and dtypes the file declares, read without the values (None if not stated)."""
+    tree = doc.tree
+    out = {}
+    for key in ("one_electron", "two_electron"):
+        node = tree.get(key)
+        if not isinstance(node, dict) or not isinstance(node.get("shape"), list):
+            return None
+        if doc.container == "hdf5":
+            dtype = node.get("dtype")
+        else:
+            dtype = "complex128" if "real" in node else "float64"
+        out[key] = {"shape": tuple(node["shape"]), "dtype": dtype, "node": node}
+    return out
+
+
+def _json_length_problems(doc, declared) -> list[tuple[str, str]]:
+    found = []
+    for key, info in declared.items():
+        expected = math.prod(info["shape"])
+        for part in ("data", "real", "imag"):
+            values = info["node"].get(part)
+            if isinstance(values, list) and len(values) != expected:
+                found.append((f"{key}.{part}", f"shape {list(info['shape'])} needs {expected} values, "
+                              f"the list holds {len(values)} (a truncated or damaged array)"))
+    return found
+
+
+@register("arrays.shape", needs_hamiltonian=False)
+def check_shapes(ham, ctx) -> Result:
+    """Shapes and dtypes agree with orbitals.count, basis and storage."""
+    doc = ctx.document
+    if doc is not None:
+        declared = declared_arrays(doc)
+        tree = doc.tree
+        orbitals = tree.get("orbitals") if isinstance(tree.get("orbitals"), dict) else {}
+        two_node = tree.get("two_electron") if isinstance(tree.get("two_electron"), dict) else {}
+        count, basis = orbitals.get("count"), orbitals.get("basis")
+        if declared is None or not isinstance(count, int) or basis is None:
+            return skipped("arrays.shape", "the file does not state orbitals.count, basis and both array shapes")
+        one, two = declared["one_electron"], declared["two_electron"]
+        problems = list(shape_problems(basis, count, two_node.get("storage"), two_node.get("notation"),
+                                       one["shape"], _dtype(one["dtype"]), two["shape"], _dtype(two["dtype"])))
+        if doc.container == "json":
+            problems += _json_length_problems(doc, declared)
+    else:
+        count, basis = ham.n, ham.basis
+        two_electron = ham.two_electron
+        problems = list(shape_problems(basis, count, two_electron.storage, two_electron.notation,
+                                       ham.one_electron.shape, ham.one_electron.dtype,
+                                       two_electron.array.shape, two_electron.array.dtype))
+    if problems:
+        text = "; ".join(f"{field}: {reason}" for field, reason in problems[:MAX_LISTED])
+        return Result("arrays.shape", "fail", text, value=float(len(problems)), limit=0.0, where=problems[0][0])
+    return Result("arrays.shape", "pass", f"shapes and dtypes fit {count} {basis} orbitals", value=0.0, limit=0.0)
+
+
+def _dtype(name):
+    try:
+        return np.dtype(name)
+    except TypeError:
+        return np.dtype("V1")
+
+
+@register("arrays.finite")
+def check_finite(ham, ctx) -> Result:
+    """NaN or infinite values in the arrays, core energy and reference energies."""
+    scalars = [("core_energy", ham.core_energy)]
+    scalars += [(f"core_energy_parts.{k}", v) for k, v in (ham.core_energy_parts or {}).items()]
+    scalars += [(f"references[{r.label}].energy", r.energy) for r in ham.references]
+    bad_scalars = [(name, v) for name, v in scalars if not math.isfinite(float(v))]
+    first, total = None, 0
+    for name, array in (("one_electron", ham.one_electron), ("two_electron", ham.two_electron.array)):
+        index, count = _first_non_finite(array, ctx.box_bytes * 16)
+        total += count
+        if index is not None and first is None:
+            first = f"{name}[{', '.join(map(str, index))}]"
+    total += len(bad_scalars)
+    if first is None and bad_scalars:
+        first = bad_scalars[0][0]
+    if total:
+        return Result("arrays.finite", "fail",
+                      f"{total} value(s) are NaN or infinite, first at {first}; the producer may have "
+                      "written an undefined integral or the file was damaged",
+                      value=float(total), limit=0.0, where=first)
+    return Result("arrays.finite", "pass", "every value is finite", value=0.0, limit=0.0)
+
+
+def _first_non_finite(array, slab_bytes):
+    """(first index, count) of non-finite values, reading along the first axis in slabs."""
+    shape = tuple(array.shape)
+    if not shape:
+        value = np.asarray(array[()])
+        return (None, 0) if np.isfinite(value) else ((), 1)
+    row_bytes = max(1, int(np.prod(shape[1:], dtype=np.int64)) * np.dtype(array.dtype).itemsize)
+    rows = max(1, slab_bytes // row_bytes)
+    first, count = None, 0
+    for start in range(0, shape[0], rows):
+        block = np.asarray(array[start : start + rows])
+        bad = ~np.isfinite(block)
+        found = int(np.count_nonzero(bad))
+        if found and first is None:
+            local = np.argwhere(bad)[0]
+            first = (int(local[0]) + start, *(int(i) for i in local[1:]))
+        count += found
+    return first, count
+
+
+@register("electrons.count")
+def check_electrons(ham, ctx) -> Result:
+    """Electron counts fit the orbitals; references' counts, 2S and occupations are reachable."""
+    per_spin = ham.orbitals.per_spin
+    problems = []
+    for spin in ("alpha", "beta"):
+        count = getattr(ham.electrons, spin)
+        if count > per_spin:
+            problems.append(("electrons." + spin, f"{count} {spin} electrons do not fit {per_spin} orbitals per spin"))
+    for ref in ham.references:
+        where = f"references[{ref.label}]"
+        electrons = ham.electrons_of(ref)
+        total = electrons.total
+        for spin in ("alpha", "beta"):
+            count = getattr(electrons, spin)
+            if count > per_spin:
+                problems.append((f"{where}.electrons.{spin}", f"{count} {spin} electrons do not fit {per_spin} orbitals"))
+        if ref.two_s is not None:
+            unpaired_max = min(total, 2 * per_spin - total)
+            if ref.two_s > unpaired_max:
+                problems.append((f"{where}.two_s", f"2S = {ref.two_s} is out of reach for {total} electrons in "
+                                 f"{per_spin} orbitals per spin (at most {unpaired_max})"))
+            if (ref.two_s - total) % 2:
+                problems.append((f"{where}.two_s", f"2S = {ref.two_s} has the wrong parity for {total} electrons"))
+            if abs(electrons.alpha - electrons.beta) > ref.two_s:
+                problems.append((f"{where}.two_s", f"2S = {ref.two_s} is below |alpha - beta| = "
+                                 f"{abs(electrons.alpha - electrons.beta)}; no such state has these counts"))
+        if ref.occupation is not None:
+            listed = (len(ref.occupation[0]), len(ref.occupation[1]))
+            if listed != (electrons.alpha, electrons.beta):
+                hint = " (alpha and beta look swapped)" if listed == (electrons.beta, electrons.alpha) else ""
+                problems.append((f"{where}.occupation", f"lists {listed[0]} alpha and {listed[1]} beta orbitals "
+                                 f"for {electrons.alpha} alpha and {electrons.beta} beta electrons{hint}"))
+            if ham.basis == "spin-orbital":
+                problems += _spin_orbital_occupation_problems(ham, where, ref.occupation)
+    if problems:
+        text = "; ".join(f"{field}: {reason}" for field, reason in problems[:MAX_LISTED])
+        return Result("electrons.count", "fail", text, value=float(len(problems)), limit=0.0, where=problems[0][0])
+    return Result("electrons.count", "pass",
+                  f"{ham.electrons.alpha} alpha and {ham.electrons.beta} beta electrons fit {per_spin} orbitals "
+                  "per spin; every reference is reachable", value=0.0, limit=0.0)
+
+
+def _spin_orbital_occupation_problems(ham, where, occupation):
+    from ..indexing import spin_of_spin_orbitals
+
+    spins = spin_of_spin_orbitals(ham.n, ham.orbitals.spin_layout)
+    found = []
+    for spin_value, (spin, indices) in enumerate(zip(("alpha", "beta"), occupation, strict=True)):
+        wrong = [i for i in indices if spins[i] != spin_value]
+        if wrong:
+            found.append((f"{where}.occupation.{spin}", f"spin orbitals {wrong} are not {spin} in the "
+                          f"{ham.orbitals.spin_layout} layout"))
+    return found
+
+
+@register("core_energy.parts", limit=1e-10)
+def check_core_parts(ham, ctx) -> Result:
+    """The parts of the core energy add up to core_energy."""
+    parts = ham.core_energy_parts
+    if not parts:
+        return skipped("core_energy.parts", "no core_energy_parts stored")
+    total = float(sum(parts.values()))
+    difference = abs(total - ham.core_energy)
+    if difference > ctx.limit:
+        hints = [f"core_energy equals {name} alone: the other parts are missing from it"
+                 for name, value in parts.items()
+                 if value != 0 and abs(value - ham.core_energy) <= ctx.limit and len(parts) > 1]
+        missing = [f"the difference equals {name}: that part is missing from core_energy"
+                   for name, value in parts.items() if abs(abs(value) - difference) <= ctx.limit and value != 0]
+        cause = "; ".join(hints + missing) or "a part is missing, or core_energy was edited alone"
+        return outcome("core_energy.parts", True,
+                       f"the parts add up to {total:.12g} but core_energy is {ham.core_energy:.12g} "
+                       f"(difference {difference:.3g}); {cause}", value=difference, limit=ctx.limit,
+                       where="core_energy")
+    return outcome("core_energy.parts", False, f"{len(parts)} part(s) add up to core_energy",
+                   value=difference, limit=ctx.limit)
+
+
+@register("checksum")
+def check_checksum(ham, ctx) -> Result:
+    """The fingerprint recomputed against the stored checksum."""
+    if ham.checksum is None:
+        return skipped("checksum", "no checksum stored")
+    computed = fingerprint(ham)
+    if computed != ham.checksum:
+        return Result("checksum", "fail",
+                      f"stored {ham.checksum[:19]}... but the content gives {computed[:19]}...; the data or the "
+                      "identifying metadata changed after the checksum was written (an altered or truncated "
+                      "transfer, or an edit without a new fingerprint)",
+                      where="checksum", details={"stored": ham.checksum, "computed": computed})
+    return Result("checksum", "pass", "the fingerprint matches the stored checksum", details={"computed": computed})
+
+
+@register("one_electron.hermitian", limit=1e-10)
+def check_hermitian(ham, ctx) -> Result:
+    """max |h - h^dagger| per spin block."""
+    h = np.asarray(ham.one_electron)
+    blocks = [("alpha", h[0]), ("beta", h[1])] if ham.basis == "unrestricted" else [("", h)]
+    worst, where, broken = 0.0, None, 0
+    for label, block in blocks:
+        deviation = np.abs(block - block.conj().T)
+        peak = float(deviation.max())
+        broken += int(np.count_nonzero(np.triu(deviation > ctx.limit, 1)))
+        if peak > worst:
+            p, q = np.unravel_index(int(np.argmax(deviation)), deviation.shape)
+            worst, where = peak, (f"{label} " if label else "") + f"({p}, {q})"
+    if worst > ctx.limit:
+        cause = "the matrix may be stored transposed with complex values" if ham.is_complex else (
+            "an element was altered, or the matrix is not the one-electron Hamiltonian")
+        return outcome("one_electron.hermitian", True,
+                       f"h is not Hermitian: {broken} pair(s) differ by more than the limit, largest "
+                       f"{worst:.3g} at {where}; {cause}", value=worst, limit=ctx.limit, where=where)
+    return outcome("one_electron.hermitian", False, "h equals its conjugate transpose", value=worst, limit=ctx.limit)
+
