@@ -61,8 +61,12 @@ def build(
     symmetry: bool = True,
     max_fci_determinants: int = DEFAULT_MAX_FCI_DETERMINANTS,
     title: str | None = None,
+    date: str | None = None,
 ) -> Hamiltonian:
-    """Run the SCF with pyscf and return the (active-space) Hamiltonian with references."""
+    """Run the SCF with pyscf and return the (active-space) Hamiltonian with references.
+
+    ``date`` (YYYY-MM-DD) goes into the provenance; today's date (UTC) when None.
+    """
     from pyscf import gto
 
     if unit not in ("angstrom", "bohr"):
@@ -93,7 +97,7 @@ def build(
         "scf": scf_name,
         "active_space": f"{n_active_electrons},{norb}" if active else "all orbitals",
         "frozen_core_orbitals": int(ncore),
-        "date": datetime.datetime.now(datetime.timezone.utc).strftime("%Y-%m-%d"),
+        "date": date or datetime.datetime.now(datetime.timezone.utc).strftime("%Y-%m-%d"),
     }
     if irreps is not None:
         provenance["irrep_names"] = " ".join(_irrep_names(mol))
@@ -104,7 +108,7 @@ def build(
             basis=basis_kind,
             point_group=mol.groupname if irreps is not None else None,
             irreps=irreps,
-            canonical=True if (unrestricted or two_s == 0) else None,
+            canonical=True,
         ),
         electrons=Electrons(n_alpha, n_beta),
         core_energy=float(ecore),

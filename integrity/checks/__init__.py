@@ -99,6 +99,7 @@ def _run(ham, document, build_error, path, ids, tolerances, memory, engine, stri
     base = Context(limit=None, memory=memory, engine=engine, document=document, box_bytes=box_bytes,
                    build_error=build_error)
     results = []
+    finite = None
     with slab_budget(max(2**20, memory // 16)):
         for check_id in ids:
             spec = REGISTRY[check_id]
@@ -107,6 +108,12 @@ def _run(ham, document, build_error, path, ids, tolerances, memory, engine, stri
             if spec.needs_hamiltonian and ham is None:
                 results.append(Result(check_id, "skip", f"not run: the file could not be assembled ({build_error})"))
                 continue
+            if spec.needs_finite:
+                if finite is None:
+                    finite = _finite_result(results, ham, ctx)
+                if finite.status == "fail":
+                    results.append(Result(check_id, "skip", f"not run: {finite.message.split(';')[0]}"))
+                    continue
             results.append(run_one(spec, ham, ctx))
     failed = any(r.status == "fail" for r in results) or (strict and any(r.status == "warn" for r in results))
     if ham is None and build_error is not None:
@@ -120,6 +127,14 @@ def _run(ham, document, build_error, path, ids, tolerances, memory, engine, stri
         except IntegrityError:
             fingerprint = None
     return FileReport(path, "fail" if failed else "pass", results, fingerprint)
+
+
+def _finite_result(results, ham, ctx) -> Result:
+    """The arrays.finite verdict of this run, computed quietly if it was not selected."""
+    for result in results:
+        if result.id == "arrays.finite":
+            return result
+    return run_one(REGISTRY["arrays.finite"], ham, ctx)
 
 
 def _in_memory(ham) -> bool:

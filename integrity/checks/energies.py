@@ -27,7 +27,7 @@ def _swapped_hint(ham, ref, expected, tolerance):
     return []
 
 
-@register("energy.hf", limit=1e-6)
+@register("energy.hf", limit=1e-6, needs_finite=True)
 def check_hf(ham, ctx) -> Result:
     """The reference-determinant energy against each hf reference."""
     refs = [r for r in ham.references if r.method == "hf"]
@@ -94,7 +94,7 @@ def brillouin_blocks(ham, occupation):
     return out
 
 
-@register("orbitals.canonical", limit=1e-6)
+@register("orbitals.canonical", limit=1e-6, needs_finite=True)
 def check_canonical(ham, ctx) -> Result:
     """Brillouin: max |F_ia| over occupied i and virtual a, when the orbitals claim to be canonical."""
     if not ham.orbitals.canonical:

@@ -23,7 +23,7 @@ def _stored_slabs(ham):
             yield label, p0, slab
 
 
-@register("orbitals.irreps", limit=1e-8)
+@register("orbitals.irreps", limit=1e-8, needs_finite=True)
 def check_irreps(ham, ctx) -> Result:
     """Largest integral that orbital symmetry forces to zero."""
     irreps = ham.orbitals.irreps

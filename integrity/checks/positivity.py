@@ -172,7 +172,7 @@ def schwarz_and_diagonals(ham):
     return schwarz, schwarz_at, coulomb_min, coulomb_at, exchange_min, exchange_where
 
 
-@register("two_electron.positive", limit=1e-8)
+@register("two_electron.positive", limit=1e-8, needs_finite=True)
 def check_positive(ham, ctx) -> Result:
     """Smallest eigenvalue (or most negative pivot) of the pair matrix; Coulomb, exchange, Schwarz."""
     two = ham.two_electron

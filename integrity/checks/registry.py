@@ -64,17 +64,20 @@ class CheckSpec:
     limit: float | None
     summary: str
     needs_hamiltonian: bool = True
+    #: skipped when the arrays hold NaN or infinities (a NaN compares false with every limit)
+    needs_finite: bool = False
 
 
 REGISTRY: dict[str, CheckSpec] = {}
 
 
-def register(check_id: str, *, limit: float | None = None, needs_hamiltonian: bool = True):
+def register(check_id: str, *, limit: float | None = None, needs_hamiltonian: bool = True,
+             needs_finite: bool = False):
     """Register a check function under ``check_id`` with its default limit."""
 
     def decorate(function):
         summary = (function.__doc__ or "").strip().splitlines()[0] if function.__doc__ else ""
-        REGISTRY[check_id] = CheckSpec(check_id, function, limit, summary, needs_hamiltonian)
+        REGISTRY[check_id] = CheckSpec(check_id, function, limit, summary, needs_hamiltonian, needs_finite)
         return function
 
     return decorate

@@ -248,7 +248,7 @@ def check_checksum(ham, ctx) -> Result:
     return Result("checksum", "pass", "the fingerprint matches the stored checksum", details={"computed": computed})
 
 
-@register("one_electron.hermitian", limit=1e-10)
+@register("one_electron.hermitian", limit=1e-10, needs_finite=True)
 def check_hermitian(ham, ctx) -> Result:
     """max |h - h^dagger| per spin block."""
     h = np.asarray(ham.one_electron)

@@ -60,7 +60,7 @@ def _fits(found, limit) -> bool:
     return all(dev.max_abs <= limit for _, dev in found)
 
 
-@register("two_electron.symmetry", limit=1e-10)
+@register("two_electron.symmetry", limit=1e-10, needs_finite=True)
 def check_symmetry(ham, ctx) -> Result:
     """Largest deviation over the permutation group the notation and value type imply."""
     found = deviations(ham, ctx, ham.two_electron.notation)
@@ -105,7 +105,7 @@ def _cause(ham, ctx, worst: Deviation, broken: int) -> str:
     return "the array may not be two-electron integrals of real orbitals, or its index order is unusual"
 
 
-@register("two_electron.notation", limit=1e-10)
+@register("two_electron.notation", limit=1e-10, needs_finite=True)
 def check_notation(ham, ctx) -> Result:
     """Whether the tensor's symmetry fits the declared notation better than the other one."""
     two = ham.two_electron

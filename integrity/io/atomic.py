@@ -41,6 +41,7 @@ def atomic_output(path, *, force: bool = False):
     fd, tmp_name = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".part", dir=folder)
     os.close(fd)
     tmp = Path(tmp_name)
+    os.chmod(tmp, 0o666 & ~_umask())  # mkstemp makes 0600; a data file follows the user's umask
     try:
         yield tmp
         _flush_to_disk(tmp)
@@ -51,6 +52,12 @@ def atomic_output(path, *, force: bool = False):
     finally:
         with contextlib.suppress(FileNotFoundError):
             tmp.unlink()
+
+
+def _umask() -> int:
+    current = os.umask(0)
+    os.umask(current)
+    return current
 
 
 def _flush_to_disk(path: Path) -> None:
