@@ -32,6 +32,11 @@ def slab_budget(slab_bytes: int):
         _slab_bytes.reset(token)
 
 
+def current_slab_bytes() -> int:
+    """The slab size in force (see :func:`slab_budget`)."""
+    return _slab_bytes.get()
+
+
 def slab_rows(n: int, itemsize: int, slab_bytes: int | None = None) -> int:
     """How many first-index rows of an n^4 array fit in ``slab_bytes`` (at least one)."""
     slab_bytes = _slab_bytes.get() if slab_bytes is None else slab_bytes

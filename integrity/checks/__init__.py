@@ -63,16 +63,19 @@ def resolve_selection(select=None, skip=None, tolerances=None) -> list[str]:
 
 
 def check(source, *, select=None, skip=None, tolerances=None, memory: int = DEFAULT_MEMORY,
-          engine: str = "native", strict: bool = False) -> FileReport:
+          engine: str = "native", strict: bool = False, fingerprint: bool = True) -> FileReport:
     """Run the checks on a path or a Hamiltonian.
 
     ``tolerances`` maps check id to limit; ``memory`` is the budget in bytes
     (arrays beyond a quarter of it are checked block by block from HDF5);
-    ``strict`` makes a warning fail the file.
+    ``strict`` makes a warning fail the file; ``fingerprint`` puts the
+    fingerprint in the report even when the checksum check did not run
+    (one more pass over the data).
     """
     ids = resolve_selection(select, skip, tolerances)
+    options = (tolerances, memory, engine, strict, fingerprint)
     if isinstance(source, Hamiltonian):
-        return _run(source, None, None, str(source.title or "(in memory)"), ids, tolerances, memory, engine, strict)
+        return _run(source, None, None, str(source.title or "(in memory)"), ids, *options)
     path = str(source)
     try:
         document = open_document(path, memory=memory, lazy="auto")
@@ -90,10 +93,10 @@ def check(source, *, select=None, skip=None, tolerances=None, memory: int = DEFA
             build_error = err
         except IntegrityError as err:
             return FileReport(path, "error", error=str(err.in_file(path)))
-        return _run(ham, document, build_error, path, ids, tolerances, memory, engine, strict)
+        return _run(ham, document, build_error, path, ids, *options)
 
 
-def _run(ham, document, build_error, path, ids, tolerances, memory, engine, strict) -> FileReport:
+def _run(ham, document, build_error, path, ids, tolerances, memory, engine, strict, want_fingerprint):
     lazy = document is not None and ham is not None and not _in_memory(ham)
     box_bytes = min(max(2**20, memory // 32), 64 * 2**20) if lazy else 2**20
     base = Context(limit=None, memory=memory, engine=engine, document=document, box_bytes=box_bytes,
@@ -119,7 +122,7 @@ def _run(ham, document, build_error, path, ids, tolerances, memory, engine, stri
     if ham is None and build_error is not None:
         failed = True
     fingerprint = next((r.details.get("computed") for r in results if r.id == "checksum" and r.details), None)
-    if fingerprint is None and ham is not None:
+    if fingerprint is None and ham is not None and want_fingerprint:
         from ..fingerprint import fingerprint as compute
 
         try:

@@ -1,19 +1,23 @@
 """Permutational symmetry relations of two-electron integrals, and how far an array is from them.
 
 Each relation says ``X[i] = sign * X[perm(i)]`` (complex-conjugated when
-``conjugate``), with ``perm`` an involution of the four axes. The relations
-listed for a notation generate its whole permutation group, so if each holds
-to within e, every relation of the group holds to within 3e (every group
-element is a product of at most three generators).
+``conjugate``), with ``perm`` an involution of the four axes. Each notation's
+relations below *generate* its permutation group, so checking them checks
+the group: with a = (pq|rs)=(qp|rs) and c = (pq|rs)=(rs|pq), the third
+familiar relation (pq|rs)=(pq|sr) is c.a.c, and every element of the
+8-element group is a word of at most four generators. So if every listed
+relation holds to within e, every relation of the group holds to within 4e.
 
 Real chemist, 8-fold (Helgaker, Jorgensen, Olsen, *Molecular Electronic-Structure
 Theory*, eq. 9.2.4; Sherrill, "Permutational symmetries of one- and
-two-electron integrals"):
-    (pq|rs) = (qp|rs) = (pq|sr) = (rs|pq)
+two-electron integrals"): (pq|rs) = (qp|rs) = (pq|sr) = (rs|pq) = ...
+    generators (pq|rs) = (qp|rs) and (pq|rs) = (rs|pq)
 Complex chemist, 4-fold:   (pq|rs) = (rs|pq) = (qp|sr)*
-Real physicist, 8-fold:    <pq|rs> = <rq|ps> = <ps|rq> = <qp|sr>
+Real physicist, 8-fold:    <pq|rs> = <rq|ps> = <ps|rq> = <qp|sr> = ...
+    generators <pq|rs> = <rq|ps> and <pq|rs> = <qp|sr>
 Complex physicist, 4-fold: <pq|rs> = <qp|sr> = <rs|pq>*
-Antisymmetrized:           <pq||rs> = -<qp||rs> = -<pq||sr> = <rs||pq> (conjugated if complex)
+Antisymmetrized:           <pq||rs> = -<qp||rs> = <rs||pq> (conjugated if complex),
+    which imply <pq||rs> = -<pq||sr>
 Unrestricted ab block (pa qa|rb sb): no pair swap (it would exchange the spins);
     real: (pq|rs) = (qp|rs) = (pq|sr); complex: (pq|rs) = (qp|sr)*.
 
@@ -42,36 +46,21 @@ class Relation:
     conjugate: bool = False
 
 
-CHEMIST_REAL = (
-    Relation("(pq|rs) = (qp|rs)", (1, 0, 2, 3)),
-    Relation("(pq|rs) = (pq|sr)", (0, 1, 3, 2)),
-    Relation("(pq|rs) = (rs|pq)", (2, 3, 0, 1)),
-)
-CHEMIST_COMPLEX = (
-    Relation("(pq|rs) = (rs|pq)", (2, 3, 0, 1)),
-    Relation("(pq|rs) = (qp|sr)*", (1, 0, 3, 2), conjugate=True),
-)
-PHYSICIST_REAL = (
-    Relation("<pq|rs> = <rq|ps>", (2, 1, 0, 3)),
-    Relation("<pq|rs> = <ps|rq>", (0, 3, 2, 1)),
-    Relation("<pq|rs> = <qp|sr>", (1, 0, 3, 2)),
-)
-PHYSICIST_COMPLEX = (
-    Relation("<pq|rs> = <qp|sr>", (1, 0, 3, 2)),
-    Relation("<pq|rs> = <rs|pq>*", (2, 3, 0, 1), conjugate=True),
-)
-ANTISYMMETRIZED_REAL = (
-    Relation("<pq||rs> = -<qp||rs>", (1, 0, 2, 3), sign=-1),
-    Relation("<pq||rs> = -<pq||sr>", (0, 1, 3, 2), sign=-1),
-    Relation("<pq||rs> = <rs||pq>", (2, 3, 0, 1)),
-)
-ANTISYMMETRIZED_COMPLEX = (
-    *ANTISYMMETRIZED_REAL[:2],
-    Relation("<pq||rs> = <rs||pq>*", (2, 3, 0, 1), conjugate=True),
-)
-MIXED_SPIN_CHEMIST_REAL = CHEMIST_REAL[:2]
-MIXED_SPIN_CHEMIST_COMPLEX = CHEMIST_COMPLEX[1:]
-MIXED_SPIN_PHYSICIST_REAL = PHYSICIST_REAL[:2]
+BRA_SWAP = Relation("(pq|rs) = (qp|rs)", (1, 0, 2, 3))
+KET_SWAP = Relation("(pq|rs) = (pq|sr)", (0, 1, 3, 2))
+PAIR_SWAP = Relation("(pq|rs) = (rs|pq)", (2, 3, 0, 1))
+CHEMIST_REAL = (BRA_SWAP, PAIR_SWAP)
+CHEMIST_COMPLEX = (PAIR_SWAP, Relation("(pq|rs) = (qp|sr)*", (1, 0, 3, 2), conjugate=True))
+PHYSICIST_REAL = (Relation("<pq|rs> = <rq|ps>", (2, 1, 0, 3)), Relation("<pq|rs> = <qp|sr>", (1, 0, 3, 2)))
+PHYSICIST_COMPLEX = (Relation("<pq|rs> = <qp|sr>", (1, 0, 3, 2)),
+                     Relation("<pq|rs> = <rs|pq>*", (2, 3, 0, 1), conjugate=True))
+ANTISYMMETRIZED_REAL = (Relation("<pq||rs> = -<qp||rs>", (1, 0, 2, 3), sign=-1),
+                        Relation("<pq||rs> = <rs||pq>", (2, 3, 0, 1)))
+ANTISYMMETRIZED_COMPLEX = (ANTISYMMETRIZED_REAL[0],
+                           Relation("<pq||rs> = <rs||pq>*", (2, 3, 0, 1), conjugate=True))
+MIXED_SPIN_CHEMIST_REAL = (BRA_SWAP, KET_SWAP)
+MIXED_SPIN_CHEMIST_COMPLEX = (CHEMIST_COMPLEX[1],)
+MIXED_SPIN_PHYSICIST_REAL = (PHYSICIST_REAL[0], Relation("<pq|rs> = <ps|rq>", (0, 3, 2, 1)))
 MIXED_SPIN_PHYSICIST_COMPLEX = (Relation("<pq|rs> = <rs|pq>*", (2, 3, 0, 1), conjugate=True),)
 PAIR_MATRIX = (Relation("(pq|rs) = (rs|pq)", (1, 0)),)
 

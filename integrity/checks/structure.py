@@ -6,6 +6,7 @@ import math
 
 import numpy as np
 
+from ..blocks import current_slab_bytes
 from ..fingerprint import fingerprint
 from ..model import shape_problems
 from ..schema import schema_problems
@@ -119,7 +120,7 @@ def check_finite(ham, ctx) -> Result:
     bad_scalars = [(name, v) for name, v in scalars if not math.isfinite(float(v))]
     first, total = None, 0
     for name, array in (("one_electron", ham.one_electron), ("two_electron", ham.two_electron.array)):
-        index, count = _first_non_finite(array, ctx.box_bytes * 16)
+        index, count = _first_non_finite(array, current_slab_bytes())
         total += count
         if index is not None and first is None:
             first = f"{name}[{', '.join(map(str, index))}]"
@@ -145,6 +146,8 @@ def _first_non_finite(array, slab_bytes):
     first, count = None, 0
     for start in range(0, shape[0], rows):
         block = np.asarray(array[start : start + rows])
+        if np.isfinite(np.sum(block)):
+            continue  # a NaN or an infinity would make the sum non-finite
         bad = ~np.isfinite(block)
         found = int(np.count_nonzero(bad))
         if found and first is None:
