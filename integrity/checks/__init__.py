@@ -98,12 +98,13 @@ def check(source, *, select=None, skip=None, tolerances=None, memory: int = DEFA
 
 def _run(ham, document, build_error, path, ids, tolerances, memory, engine, strict, want_fingerprint):
     lazy = document is not None and ham is not None and not _in_memory(ham)
-    box_bytes = min(max(2**20, memory // 32), 64 * 2**20) if lazy else 2**20
+    # on disk: boxes and slabs are fixed fractions of the budget (in memory: cache-sized boxes)
+    box_bytes = min(max(2**16, memory // 32), 64 * 2**20) if lazy else 2**20
     base = Context(limit=None, memory=memory, engine=engine, document=document, box_bytes=box_bytes,
                    build_error=build_error)
     results = []
     finite = None
-    with slab_budget(max(2**20, memory // 16)):
+    with slab_budget(max(2**16, memory // 16)):
         for check_id in ids:
             spec = REGISTRY[check_id]
             limit = (tolerances or {}).get(check_id, spec.limit)

@@ -183,7 +183,8 @@ def check_positive(ham, ctx) -> Result:
         return skipped("two_electron.positive", "antisymmetrized <pq||rs> is not a Coulomb pair matrix")
     limit = ctx.limit
     space = PairSpace(ham)
-    if space.size <= EIGEN_PAIRS:
+    itemsize = 16 if space.complex else 8
+    if space.size <= EIGEN_PAIRS and 4 * space.size**2 * itemsize <= ctx.memory // 4:
         value, index = smallest_eigenvalue(space)
         method, rank, complete = "lowest eigenvalue", None, True
     else:
