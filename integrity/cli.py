@@ -138,6 +138,115 @@ def check(paths, output_format, select, skip, tolerance, engine, memory, strict,
 
 @main.command()
 @click.argument("file", type=click.Path(dir_okay=False))
+@click.option("--roots", type=click.IntRange(min=1), default=1, show_default=True, help="How many states.")
+@click.option("--alpha", type=click.IntRange(min=0), help="Alpha electrons (default: the file's).")
+@click.option("--beta", type=click.IntRange(min=0), help="Beta electrons (default: the file's).")
+@click.option("--electrons", type=click.IntRange(min=0),
+              help="Total electrons only (spin-orbital files that couple the spins).")
+@click.option("--two-s", type=click.IntRange(min=0), help="Keep only states with this 2S.")
+@click.option("--irrep", type=click.IntRange(0, 7), help="Keep only states of this irrep (needs irreps).")
+@click.option("--engine", type=ENGINES, default="native", show_default=True,
+              help="Our solver, pyscf's, or both side by side.")
+@click.option("--memory", type=MEMORY, default=str(DEFAULT_MEMORY), show_default="4GiB",
+              help="Refuse a solve whose estimate exceeds this.")
+@click.option("--format", "output_format", type=click.Choice(["text", "json"]), default="text",
+              show_default=True)
+@guarded
+def solve(file, roots, alpha, beta, electrons, two_s, irrep, engine, memory, output_format):
+    """Full-CI energies of the lowest states of FILE, with their 2S (and irrep).
+
+    \b
+    Examples:
+      integrity solve fixtures/good/hubbard_ring6_u4.json --roots 4
+      integrity solve fixtures/good/o2_sto3g_cas86.h5 --alpha 4 --beta 4 --two-s 0
+    """
+    from .fullci import solve as solve_hamiltonian
+
+    if (alpha is None) != (beta is None):
+        raise click.UsageError("give both --alpha and --beta, or neither")
+    if electrons is not None and alpha is not None:
+        raise click.UsageError("give --electrons or --alpha/--beta, not both")
+    ham = load(file, memory=memory)
+    engines = ("native", "pyscf") if engine == "both" else (engine,)
+    results = [solve_hamiltonian(ham, alpha=alpha, beta=beta, electrons=electrons, roots=roots, two_s=two_s,
+                                 irrep=irrep, engine=name, memory=memory) for name in engines]
+    if output_format == "json":
+        click.echo(json.dumps({"path": file, "results": [_solution_dict(r) for r in results]}, indent=2))
+    else:
+        click.echo(_solution_text(file, results))
+
+
+def _solution_dict(result) -> dict:
+    return {
+        "engine": result.engine, "alpha": result.n_alpha, "beta": result.n_beta, "electrons": result.n_electrons,
+        "determinants": result.determinants, "iterations": result.iterations,
+        "memory_estimate": result.memory_estimate, "notes": list(result.notes),
+        "roots": [{"energy": r.energy, "two_s": r.two_s, "s_squared": r.s_squared, "irrep": r.irrep,
+                   "residual": r.residual_norm, "converged": r.converged} for r in result.roots],
+    }
+
+
+def _solution_text(path, results) -> str:
+    lines = [str(path)]
+    for result in results:
+        counts = (f"{result.n_alpha} alpha, {result.n_beta} beta" if result.n_alpha is not None
+                  else f"{result.n_electrons} electrons")
+        lines.append(f"  {result.engine}: {counts}, {result.determinants} determinants"
+                     + (f", {result.iterations} iterations" if result.iterations is not None else ""))
+        lines.append(f"  {'root':>6} {'energy / hartree':>20} {'2S':>4} {'<S^2>':>10} {'irrep':>6} {'residual':>10}")
+        for index, root in enumerate(result.roots):
+            two_s = "-" if root.two_s is None else str(root.two_s)
+            s2 = "-" if root.s_squared is None else f"{root.s_squared:.6f}"
+            irrep = "-" if root.irrep is None else str(root.irrep)
+            flag = "" if root.converged else "  (not converged)"
+            lines.append(f"  {index:>6} {root.energy:>20.10f} {two_s:>4} {s2:>10} {irrep:>6} "
+                         f"{root.residual_norm:>10.1e}{flag}")
+        lines += [f"  note: {note}" for note in result.notes]
+    return "\n".join(lines)
+
+
+@main.command()
+@click.argument("file", type=click.Path(dir_okay=False))
+@click.option("--expected", type=float, help="The energy someone expected (hartree).")
+@click.option("--reference", "label", metavar="LABEL", help="Explain a stored reference instead.")
+@click.option("--method", type=click.Choice(["hf", "fci"]),
+              help="What the expected energy is: the determinant (hf) or full CI (default fci).")
+@click.option("--tolerance", type=float, default=1e-6, show_default=True, help="Hartree.")
+@click.option("--memory", type=MEMORY, default=str(DEFAULT_MEMORY), show_default="4GiB")
+@click.option("--format", "output_format", type=click.Choice(["text", "json"]), default="text",
+              show_default=True)
+@guarded
+def diagnose(file, expected, label, method, tolerance, memory, output_format):
+    """Explain why FILE does not give an expected energy: each known mistake is re-enacted
+    (notation, alpha/beta swap, electron count, spin state, constants, factor of two, layout).
+    Exit status 0 when the energy matches as stored, 1 when it does not.
+
+    \b
+    Examples:
+      integrity diagnose fixtures/damaged/n2_core_energy_dropped.json --reference fci
+      integrity diagnose run.h5 --expected -1.137270 --method fci
+    """
+    from .diagnose import diagnose as explain
+    from .diagnose import render
+
+    if (expected is None) == (label is None):
+        raise click.UsageError("give --expected E or --reference LABEL")
+    finding = explain(load(file, memory=memory), expected=expected, reference=label, method=method,
+                      tolerance=tolerance, memory=memory)
+    if output_format == "json":
+        click.echo(json.dumps({
+            "path": file, "expected": finding.expected, "method": finding.method, "computed": finding.computed,
+            "difference": finding.difference, "tolerance": finding.tolerance, "matches": finding.matches,
+            "hypotheses": [{"name": h.name, "description": h.description, "energy": h.energy,
+                            "matches": h.matches, "note": h.note} for h in finding.hypotheses]}, indent=2))
+    else:
+        click.echo(render(finding, file))
+    if not finding.matches:
+        raise SystemExit(EXIT_FAILED)
+
+
+@main.command()
+@click.argument("file", type=click.Path(dir_okay=False))
 @click.option("--format", "output_format", type=click.Choice(["text", "json"]), default="text",
               show_default=True, help="Text for people, JSON for programs.")
 @click.option("--memory", type=MEMORY, default=str(DEFAULT_MEMORY), show_default="4GiB",

@@ -15,7 +15,7 @@ from ..errors import FieldError, IntegrityError
 from ..io import DEFAULT_MEMORY, open_document
 from ..io.content import hamiltonian_from_content
 from ..model import Hamiltonian
-from . import energies, irreps, positivity, structure, symmetry  # noqa: F401  (register the checks)
+from . import energies, fullci, irreps, positivity, structure, symmetry  # noqa: F401  (register the checks)
 from .registry import REGISTRY, Context, Result, run_one
 
 ORDER = (
