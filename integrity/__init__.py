@@ -14,13 +14,13 @@ from __future__ import annotations
 
 __version__ = "0.1.0"
 
-from .checks import FileReport, check, check_paths  # noqa: E402
-from .diagnose import diagnose  # noqa: E402
-from .errors import IntegrityError  # noqa: E402
-from .fingerprint import fingerprint  # noqa: E402
-from .fullci import solve  # noqa: E402
-from .io import load, save  # noqa: E402
-from .model import Electrons, Hamiltonian, Orbitals, Reference, TwoElectron  # noqa: E402
+from .checks import FileReport, check, check_paths
+from .diagnose import diagnose
+from .errors import IntegrityError
+from .fingerprint import fingerprint
+from .fullci import solve
+from .io import load, save
+from .model import Electrons, Hamiltonian, Orbitals, Reference, TwoElectron
 
 __all__ = [
     "Electrons",
@@ -33,6 +33,8 @@ __all__ = [
     "__version__",
     "check",
     "check_paths",
+    "convert",
+    "convert_file",
     "diagnose",
     "fingerprint",
     "load",

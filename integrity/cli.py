@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import functools
 import json
+
 import click
 
 from . import __version__
@@ -203,6 +204,48 @@ def _solution_text(path, results) -> str:
                          f"{root.residual_norm:>10.1e}{flag}")
         lines += [f"  note: {note}" for note in result.notes]
     return "\n".join(lines)
+
+
+@main.command()
+@click.argument("in_path", metavar="IN", type=click.Path(exists=True, dir_okay=False))
+@click.argument("out_path", metavar="OUT", type=click.Path(dir_okay=False))
+@click.option("--notation", type=click.Choice(["chemist", "physicist"]), help="Index order of the result.")
+@click.option("--storage", type=click.Choice(["dense", "pairs", "unique"]), help="Packing of the result.")
+@click.option("--basis", type=click.Choice(["restricted", "unrestricted", "spin-orbital"]),
+              help="Orbital basis of the result.")
+@click.option("--spin-layout", type=click.Choice(["interleaved", "blocked"]),
+              help="Spin-orbital order (default interleaved).")
+@click.option("--antisymmetrize", is_flag=True, help="Store <pq||rs> (spin-orbital, physicist; cannot be undone).")
+@click.option("--tolerance", type=float, default=1e-10, show_default=True,
+              help="Largest deviation a lossy step may drop without --force (hartree).")
+@click.option("--force", is_flag=True,
+              help="Replace OUT if it exists; do lossy steps beyond the tolerance (recorded in the history); "
+                   "accept a damaged checksum. IN is never replaced.")
+@guarded
+def convert(in_path, out_path, notation, storage, basis, spin_layout, antisymmetrize, tolerance, force):
+    """Convert IN into a new file OUT; the container follows OUT's extension (.h5, .hdf5, .json).
+
+    Several steps in one call, applied in the order basis, spin layout,
+    notation, antisymmetrization, storage. A step that would lose information
+    is refused unless --force; the fingerprint changes only when the
+    Hamiltonian's content does (basis, layout, antisymmetrization).
+
+    \b
+    Examples:
+      integrity convert h2.h5 h2.json
+      integrity convert h2.h5 h2_so.json --basis spin-orbital --notation physicist --antisymmetrize
+      integrity convert n2.h5 n2_packed.h5 --storage unique
+    """
+    from .convert import convert_file
+
+    result = convert_file(in_path, out_path, force_overwrite=force, notation=notation, storage=storage,
+                          basis=basis, spin_layout=spin_layout, antisymmetrize=antisymmetrize, force=force,
+                          tolerance=tolerance)
+    for step in result.steps:
+        dropped = f", dropped up to {step['dropped_max_deviation']:.3g}" if "dropped_max_deviation" in step else ""
+        changed = " (new fingerprint)" if step.get("fingerprint_changed") else ""
+        click.echo(f"{step['step']}: {step['from']} -> {step['to']}{dropped}{changed}")
+    click.echo(f"wrote {out_path} ({result.hamiltonian.checksum})")
 
 
 @main.command()

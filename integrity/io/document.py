@@ -58,7 +58,7 @@ def format_bytes(count: float) -> str:
     """Bytes in binary units, three significant figures.
 
     >>> format_bytes(3 * 2**30), format_bytes(8e24)
-    ('3.00 GiB', '6.62e+12 TiB')
+    ('3 GiB', '7.28e+12 TiB')
     """
     for unit, size in (("TiB", 2**40), ("GiB", 2**30), ("MiB", 2**20), ("KiB", 2**10)):
         if count >= size:

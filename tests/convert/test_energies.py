@@ -1,0 +1,157 @@
+"""Conversions leave the energy unchanged: reference determinants and full CI.
+
+The determinant energy is integrity.meanfield's Slater–Condon expression,
+E = E_core + sum_i h_ii + 1/2 sum_ij <ij||ij> over occupied spin orbitals
+(Szabo and Ostlund, *Modern Quantum Chemistry*, ch. 2, recalled from memory).
+No energy here is a pinned number: each is computed before and after.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from convert_support import (
+    PROPERTY_SETTINGS,
+    generic_spin_orbital,
+    restricted,
+    seeded,
+    unrestricted,
+)
+from hypothesis import given
+from hypothesis import strategies as st
+
+from integrity.blocks import dense_chemist
+from integrity.convert import convert
+from integrity.meanfield import determinant_energy, reference_occupation
+
+TOL = 1e-10
+
+SPATIAL_REQUESTS = [
+    {"notation": "physicist"},
+    {"basis": "spin-orbital", "spin_layout": "interleaved"},
+    {"basis": "spin-orbital", "spin_layout": "blocked"},
+    {"basis": "spin-orbital", "spin_layout": "blocked", "notation": "physicist"},
+    {
+        "basis": "spin-orbital",
+        "spin_layout": "interleaved",
+        "notation": "physicist",
+        "antisymmetrize": True,
+    },
+    {
+        "basis": "spin-orbital",
+        "spin_layout": "blocked",
+        "notation": "physicist",
+        "antisymmetrize": True,
+    },
+]
+REAL_ONLY = [
+    {"storage": "pairs"},
+    {"storage": "unique"},
+    {"basis": "spin-orbital", "storage": "unique"},
+]
+SPIN_ORBITAL_REQUESTS = [
+    {"spin_layout": "blocked"},
+    {"notation": "physicist"},
+    {"notation": "physicist", "antisymmetrize": True},
+    {"spin_layout": "blocked", "notation": "physicist", "antisymmetrize": True},
+]
+
+
+def _energies(ham):
+    return {
+        ref.label: determinant_energy(ham, reference_occupation(ham, ref)) for ref in ham.references
+    }
+
+
+def _assert_same_energies(before, after):
+    e_before, e_after = _energies(before), _energies(after)
+    assert e_before.keys() == e_after.keys() == {"hf", "hf-default"}
+    for label, energy in e_before.items():
+        assert abs(e_after[label] - energy) < TOL, (label, energy, e_after[label])
+        # the builder stored each reference's energy from the same formula
+        assert abs(energy - before.reference(label).energy) < TOL
+
+
+@pytest.mark.parametrize(
+    "request_", SPATIAL_REQUESTS + REAL_ONLY + [{"basis": "unrestricted"}], ids=str
+)
+def test_restricted_determinant_energies_survive_every_conversion(request_):
+    ham = restricted(4, seeded(f"energy r {request_}"))
+    _assert_same_energies(ham, convert(ham, **request_).hamiltonian)
+
+
+@pytest.mark.parametrize("request_", SPATIAL_REQUESTS, ids=str)
+def test_complex_restricted_determinant_energies_survive_every_conversion(request_):
+    ham = restricted(3, seeded(f"energy c {request_}"), is_complex=True)
+    _assert_same_energies(ham, convert(ham, **request_).hamiltonian)
+
+
+@pytest.mark.parametrize(
+    ("request_", "is_complex"),
+    [(r, c) for r in SPATIAL_REQUESTS for c in (False, True)] + [({"storage": "pairs"}, False)],
+    ids=str,
+)
+def test_unrestricted_determinant_energies_survive_every_conversion(request_, is_complex):
+    ham = unrestricted(3, seeded(f"energy u {request_} {is_complex}"), is_complex=is_complex)
+    _assert_same_energies(ham, convert(ham, **request_).hamiltonian)
+
+
+@pytest.mark.parametrize("layout", ["interleaved", "blocked"])
+@pytest.mark.parametrize("request_", SPIN_ORBITAL_REQUESTS, ids=str)
+def test_spin_orbital_determinant_energies_survive_every_conversion(request_, layout):
+    ham = generic_spin_orbital(6, seeded(f"energy so {request_} {layout}"), layout=layout)
+    _assert_same_energies(ham, convert(ham, **request_).hamiltonian)
+
+
+@PROPERTY_SETTINGS
+@given(
+    n=st.integers(1, 4),
+    is_complex=st.booleans(),
+    layout=st.sampled_from(["interleaved", "blocked"]),
+    antisym=st.booleans(),
+    seed=st.integers(0, 2**32 - 1),
+)
+def test_spin_orbital_and_back_keeps_every_reference_energy(n, is_complex, layout, antisym, seed):
+    ham = restricted(n, np.random.default_rng(seed), is_complex=is_complex)
+    request_ = {"basis": "spin-orbital", "spin_layout": layout}
+    if antisym:
+        request_ |= {"notation": "physicist", "antisymmetrize": True}
+    so = convert(ham, **request_).hamiltonian
+    _assert_same_energies(ham, so)
+    if not antisym:
+        _assert_same_energies(ham, convert(so, basis="restricted").hamiltonian)
+
+
+def _fci_energy(ham):
+    from integrity.fci import solve_arrays
+
+    eri = dense_chemist(ham.two_electron, ham.basis, ham.n)
+    kwargs = {"n_alpha": ham.electrons.alpha, "n_beta": ham.electrons.beta}
+    if ham.basis == "spin-orbital":
+        kwargs = {
+            "n_electrons": ham.electrons.total,
+            "spin_layout": ham.orbitals.spin_layout,
+            "n_alpha": ham.electrons.alpha,
+        }
+    result = solve_arrays(
+        ham.basis, np.asarray(ham.one_electron), np.asarray(eri), ham.core_energy, **kwargs
+    )
+    return result.roots[0].energy
+
+
+@pytest.mark.parametrize("layout", ["interleaved", "blocked"])
+@pytest.mark.parametrize("basis", ["restricted", "unrestricted"])
+def test_full_ci_energies_are_the_same_in_the_spin_orbital_basis(basis, layout):
+    build = restricted if basis == "restricted" else unrestricted
+    ham = build(3, seeded(f"fci {basis} {layout}"), irreps=False)
+    ham = ham.replace(electrons=type(ham.electrons)(2, 1), references=())
+    so = convert(ham, basis="spin-orbital", spin_layout=layout, notation="physicist").hamiltonian
+    assert abs(_fci_energy(so) - _fci_energy(ham)) < 1e-9
+
+
+def test_full_ci_energy_is_the_same_after_packing_and_a_change_of_notation():
+    ham = restricted(4, seeded("fci packed"), irreps=False)
+    ham = ham.replace(electrons=type(ham.electrons)(2, 2), references=())
+    reference = _fci_energy(ham)
+    for request_ in ({"storage": "unique"}, {"notation": "physicist"}):
+        assert abs(_fci_energy(convert(ham, **request_).hamiltonian) - reference) < 1e-9
