@@ -321,6 +321,9 @@ def structure_problems(ham: Hamiltonian) -> Iterator[tuple[str, str]]:
         ham.one_electron.shape, ham.one_electron.dtype, two.array.shape, two.array.dtype,
     )
     yield from _reference_problems(ham)
+    yield from _provenance_problems(ham.provenance)
+    if ham.title is not None and "\x00" in str(ham.title):
+        yield "title", "contains a NUL character, which HDF5 strings cannot hold"
     if ham.checksum is not None and not (isinstance(ham.checksum, str) and CHECKSUM_PATTERN.match(ham.checksum)):
         yield "checksum", f"expected 'sha256:' and 64 lower-case hex digits, got {ham.checksum!r}"
 
@@ -362,6 +365,8 @@ def _reference_problems(ham: Hamiltonian) -> Iterator[tuple[str, str]]:
         where = f"references[{i}]"
         if not isinstance(ref.label, str) or not ref.label:
             yield f"{where}.label", f"expected a non-empty string, got {ref.label!r}"
+        elif "/" in ref.label or ref.label in (".", "..") or "\x00" in ref.label:
+            yield f"{where}.label", f"{ref.label!r} cannot name an HDF5 group: no '/', NUL, '.' or '..'"
         elif ref.label in seen:
             yield f"{where}.label", f"label {ref.label!r} appears more than once; labels must be unique"
         seen.add(ref.label)
@@ -384,6 +389,26 @@ def _reference_problems(ham: Hamiltonian) -> Iterator[tuple[str, str]]:
             yield f"{where}.tolerance", f"expected a positive number of hartree, got {ref.tolerance!r}"
         if ref.occupation is not None:
             yield from _occupation_problems(ham, where, ref.occupation)
+
+
+def _provenance_problems(provenance) -> Iterator[tuple[str, str]]:
+    """Provenance is free-form but container-safe: scalar values, and a list of steps as history."""
+    if provenance is None:
+        return
+    if not isinstance(provenance, Mapping):
+        yield "provenance", f"expected an object, got {type(provenance).__name__}"
+        return
+    for key, value in provenance.items():
+        if key == "history":
+            if not isinstance(value, list | tuple) or not all(isinstance(step, dict | str) for step in value):
+                yield "provenance.history", "expected a list of steps (objects or strings)"
+        elif isinstance(value, bool | int | float | np.integer | np.floating):
+            continue
+        elif isinstance(value, str):
+            if "\x00" in value:
+                yield f"provenance.{key}", "contains a NUL character, which HDF5 strings cannot hold"
+        else:
+            yield f"provenance.{key}", f"expected a string, number or boolean, got {type(value).__name__}"
 
 
 def _occupation_problems(ham, where, occupation) -> Iterator[tuple[str, str]]:

@@ -108,8 +108,15 @@ def _any_of_message(error: ValidationError) -> str:
     if isinstance(instance, dict) and "shape" in instance:
         keys = sorted(k for k in ("data", "real", "imag") if k in instance)
         return f"an array needs 'data' (real) or both 'real' and 'imag' (complex), got keys {keys}"
-    best = jsonschema.exceptions.best_match(error.context)
-    return _message(best) if best is not None else f"{_short.repr(instance)} matches no allowed form"
+    context = list(error.context)
+    if isinstance(instance, list):
+        # a list was meant as the list form: report what that branch found, not "expected object"
+        context = [e for e in context if e.validator != "type"] or context
+    best = jsonschema.exceptions.best_match(context)
+    if best is None:
+        return f"{_short.repr(instance)} matches no allowed form"
+    where = "".join(f"[{k}]" for k in best.relative_path)
+    return (f"item {where}: " if where else "") + _message(best)
 
 
 def _message(error: ValidationError) -> str:

@@ -9,21 +9,35 @@ from .fingerprint import fingerprint
 from .model import Hamiltonian
 
 
+def _norm_and_max(slabs) -> tuple[float, float]:
+    """Frobenius norm and largest magnitude over slabs, scaled so huge values do not overflow."""
+    scale, total = 0.0, 0.0  # norm = scale * sqrt(total)
+    for slab in slabs:
+        magnitude = np.abs(slab)
+        if not magnitude.size:
+            continue
+        peak = float(magnitude.max())
+        if peak > scale:
+            total *= (scale / peak) ** 2
+            scale = peak
+        if scale > 0:
+            total += float(np.sum((magnitude / scale) ** 2))
+    return scale * total**0.5, scale
+
+
 def array_figures(array) -> dict:
-    """Frobenius norm and largest magnitude of an array (read slab by slab if lazy)."""
-    data = np.asarray(array)
-    return {"norm": float(np.linalg.norm(data.ravel())), "max_abs": float(np.max(np.abs(data))) if data.size else 0.0}
+    """Frobenius norm and largest magnitude of an array."""
+    norm, largest = _norm_and_max([np.asarray(array)])
+    return {"norm": norm, "max_abs": largest}
 
 
 def _two_electron_figures(ham: Hamiltonian) -> dict:
     two = ham.two_electron
-    total, largest = 0.0, 0.0
-    for block in spin_blocks(two, ham.basis):
-        for _, slab in chemist_slabs(block, two.notation, two.storage, ham.n, antisymmetrized=bool(two.antisymmetrized)):
-            magnitude = np.abs(slab)
-            total += float(np.sum(magnitude * magnitude))
-            largest = max(largest, float(magnitude.max()) if magnitude.size else 0.0)
-    return {"norm (dense)": total**0.5, "max_abs": largest}
+    slabs = (slab for block in spin_blocks(two, ham.basis)
+             for _, slab in chemist_slabs(block, two.notation, two.storage, ham.n,
+                                          antisymmetrized=bool(two.antisymmetrized)))
+    norm, largest = _norm_and_max(slabs)
+    return {"norm (dense)": norm, "max_abs": largest}
 
 
 def summarize(ham: Hamiltonian) -> dict:

@@ -26,8 +26,8 @@ def check_schema(ham, ctx) -> Result:
     """The metadata against schemas/hamiltonian.schema.json (JSON text or HDF5 tree)."""
     doc = ctx.document
     if doc is None:
-        from ..io.hdf5 import location, tree_of_content
         from ..io.content import content_from_hamiltonian
+        from ..io.hdf5 import location, tree_of_content
 
         tree, entry, locate = tree_of_content(content_from_hamiltonian(ham)), "hdf5_tree", location
     else:

@@ -171,12 +171,13 @@ def annihilation_table(n: int, k: int) -> LadderTable:
     return _ladder(n, k, k - 1)
 
 
-def excitation_entries(targets, sources, n: int):
+def excitation_entries(targets, sources, n: int, *, chunk: int = 2**15):
     """Nonzero ``<T|E_pq|S>`` between two sets of strings of equal electron count.
 
     ``targets`` is any int64 array, ``sources`` a sorted one. Returns flat int64
     arrays ``(target_index, p, q, source_index, sign)`` holding every entry with
-    ``<targets[t]|a†_p a_q|sources[s]> = sign != 0``, for all ``p, q < n``.
+    ``<targets[t]|a†_p a_q|sources[s]> = sign != 0``, for all ``p, q < n``, sorted
+    by target. Targets are processed ``chunk`` at a time to bound the scratch.
 
     >>> t, p, q, s, sign = excitation_entries(np.array([1]), np.array([1, 2]), 2)
     >>> t.tolist(), p.tolist(), q.tolist(), s.tolist(), sign.tolist()
@@ -184,9 +185,15 @@ def excitation_entries(targets, sources, n: int):
     """
     targets = np.asarray(targets, dtype=np.int64)
     sources = np.asarray(sources, dtype=np.int64)
-    if len(targets) == 0 or len(sources) == 0:
+    parts = [_entries(targets[start:start + chunk], sources, n, start)
+             for start in range(0, len(targets) if len(sources) else 0, chunk)]
+    if not parts:
         empty = np.zeros(0, dtype=np.int64)
         return empty, empty, empty, empty, empty
+    return tuple(np.concatenate(column) for column in zip(*parts, strict=True))
+
+
+def _entries(targets, sources, n, offset):
     occ_bits = ((targets[:, None] >> np.arange(n, dtype=np.int64)) & 1).astype(bool)
     t_idx, p = np.nonzero(occ_bits)
     t_idx = np.repeat(t_idx, n)
@@ -198,10 +205,5 @@ def excitation_entries(targets, sources, n: int):
     source_str, sign = _excitation_sign(target_str, p, q)
     s_idx = np.minimum(np.searchsorted(sources, source_str), len(sources) - 1)
     found = sources[s_idx] == source_str
-    return (
-        t_idx[found].astype(np.int64),
-        p[found],
-        q[found],
-        s_idx[found].astype(np.int64),
-        sign[found].astype(np.int64),
-    )
+    return (t_idx[found].astype(np.int64) + offset, p[found], q[found],
+            s_idx[found].astype(np.int64), sign[found].astype(np.int64))

@@ -106,10 +106,13 @@ def _locate_field(document: Document, field: str | None) -> str | None:
         return field
     parts = []
     for token in field.split("."):
-        if token.startswith("references[") and token.endswith("]"):
-            index = int(token[len("references["):-1])
+        name, _, index = token.partition("[")
+        index = index.rstrip("]")
+        if name == "references" and index.isdigit():
             labels = list(document.tree.get("references", {}))
-            parts += ["references", labels[index] if index < len(labels) else str(index)]
+            parts += ["references", labels[int(index)] if int(index) < len(labels) else index]
+        elif index.isdigit():
+            parts += [name, int(index)]  # an element of a dataset, e.g. orbitals.irreps[1]
         else:
             parts.append(token)
     return document.locate(tuple(parts))

@@ -13,6 +13,8 @@ from __future__ import annotations
 import json
 from typing import Any
 
+import numpy as np
+
 from ..errors import FieldError
 from ..model import FORMAT_NAME, Electrons, Hamiltonian, Orbitals, Reference, TwoElectron
 
@@ -21,20 +23,35 @@ TWO_ELECTRON_FLAGS = ("notation", "storage", "interaction", "antisymmetrized")
 REFERENCE_SCALARS = ("method", "energy", "two_s", "irrep", "root", "tolerance")
 
 
+def plain(value):
+    """NumPy scalars (and lists, tuples, dicts of them) as plain Python values."""
+    if isinstance(value, np.bool_):
+        return bool(value)
+    if isinstance(value, np.integer):
+        return int(value)
+    if isinstance(value, np.floating):
+        return float(value)
+    if isinstance(value, dict):
+        return {k: plain(v) for k, v in value.items()}
+    if isinstance(value, list | tuple):
+        return [plain(v) for v in value]
+    return value
+
+
 def content_from_hamiltonian(ham: Hamiltonian) -> dict[str, Any]:
-    """The content dict of a Hamiltonian; optional fields that are None are left out."""
+    """The content dict of a Hamiltonian; optional fields that are None are left out.
+
+    Scalars are plain Python values whatever the model was given (NumPy integers included).
+    """
     orb = ham.orbitals
     content: dict[str, Any] = {
         "format": FORMAT_NAME,
-        "format_version": ham.format_version,
+        "format_version": plain(ham.format_version),
         "energy_unit": ham.energy_unit,
     }
     if ham.title is not None:
         content["title"] = ham.title
-    orbitals = {key: getattr(orb, key) for key in ORBITAL_KEYS if getattr(orb, key) is not None}
-    if "irreps" in orbitals:
-        orbitals["irreps"] = [int(i) for i in orbitals["irreps"]]
-    content["orbitals"] = orbitals
+    content["orbitals"] = plain({key: getattr(orb, key) for key in ORBITAL_KEYS if getattr(orb, key) is not None})
     content["electrons"] = {"alpha": int(ham.electrons.alpha), "beta": int(ham.electrons.beta)}
     content["core_energy"] = float(ham.core_energy)
     if ham.core_energy_parts is not None:
@@ -45,9 +62,9 @@ def content_from_hamiltonian(ham: Hamiltonian) -> dict[str, Any]:
         key: getattr(two, key) for key in TWO_ELECTRON_FLAGS if getattr(two, key) is not None
     }
     if ham.references:
-        content["references"] = [_reference_content(ref) for ref in ham.references]
+        content["references"] = [plain(_reference_content(ref)) for ref in ham.references]
     if ham.provenance is not None:
-        content["provenance"] = dict(ham.provenance)
+        content["provenance"] = plain(dict(ham.provenance))
     if ham.checksum is not None:
         content["checksum"] = ham.checksum
     return content
@@ -148,9 +165,19 @@ def _reference(i: int, entry) -> Reference:
     )
 
 
-def history_entry_from_text(text: str):
-    """A provenance history step stored as JSON text (HDF5), parsed when it is JSON."""
+def history_entry_from_text(text: str, *, unwrap_strings: bool = True):
+    """A provenance history step stored as text: an object when the text is a JSON object.
+
+    HDF5 stores each step as JSON text, so a quoted string is unwrapped there
+    (``unwrap_strings``); any other text, such as ``"1"``, stays the text it is.
+
+    >>> history_entry_from_text('{"step": "notation"}'), history_entry_from_text('"done"'), history_entry_from_text("1")
+    ({'step': 'notation'}, 'done', '1')
+    """
     try:
-        return json.loads(text)
+        parsed = json.loads(text)
     except ValueError:
         return text
+    if isinstance(parsed, dict) or (unwrap_strings and isinstance(parsed, str)):
+        return parsed
+    return text

@@ -137,6 +137,10 @@ _DATASETS = {("one_electron",), ("two_electron",), ("orbitals", "irreps"), ("pro
 _GROUPS = {("orbitals",), ("electrons",), ("core_energy_parts",), ("references",), ("provenance",)}
 
 
+def _is_dataset(parts: tuple) -> bool:
+    return parts in _DATASETS or (len(parts) == 4 and parts[0] == "references" and parts[2] == "occupation")
+
+
 def location(path: tuple) -> str:
     """HDF5 location of a tree path: groups and datasets by path, attributes after ``@``.
 
@@ -144,12 +148,19 @@ def location(path: tuple) -> str:
     ('/two_electron@notation', '/@core_energy')
     >>> location(("references", "hf", "occupation", "alpha")), location(("references", "hf"))
     ('/references/hf/occupation/alpha', '/references/hf')
+    >>> location(("orbitals", "irreps", 1))
+    '/orbitals/irreps[1]'
+
     """
     parts = tuple(str(p) for p in path)
     if not parts:
         return "/"
+    for cut in range(len(parts) - 1, 0, -1):  # an element of a dataset: /orbitals/irreps[1]
+        head = parts[:cut]
+        if all(p.isdigit() for p in parts[cut:]) and _is_dataset(head):
+            return "/" + "/".join(head) + "".join(f"[{p}]" for p in parts[cut:])
     in_reference = parts[0] == "references"
-    is_dataset = parts in _DATASETS or (in_reference and len(parts) == 4 and parts[2] == "occupation")
+    is_dataset = _is_dataset(parts)
     is_group = parts in _GROUPS or (
         in_reference and (len(parts) == 2 or (len(parts) == 3 and parts[2] in ("electrons", "occupation")))
     )
@@ -247,8 +258,7 @@ def tree_of_content(content: dict) -> dict:
     if "provenance" in content:
         provenance = dict(content["provenance"])
         if "history" in provenance:
-            provenance["history"] = [s if isinstance(s, str) else json.dumps(s, sort_keys=True)
-                                     for s in provenance["history"]]
+            provenance["history"] = [json.dumps(s, sort_keys=True) for s in provenance["history"]]
         tree["provenance"] = provenance
     return tree
 
@@ -332,7 +342,7 @@ def _write_provenance(out, provenance):
     group = out.create_group("provenance", track_order=True)
     for key, value in provenance.items():
         if key == "history":
-            texts = [step if isinstance(step, str) else json.dumps(step, sort_keys=True) for step in value]
+            texts = [json.dumps(step, sort_keys=True) for step in value]
             group.create_dataset("history", data=np.array(texts, dtype=h5py.string_dtype()), dtype=h5py.string_dtype())
         else:
             group.attrs[key] = value

@@ -18,31 +18,55 @@ from __future__ import annotations
 import json
 import math
 import os
+import re
 import uuid
 
 import numpy as np
 
-from ..errors import ContainerError, FieldError
+from ..errors import BudgetError, ContainerError, FieldError
 from .atomic import atomic_output
 from .content import history_entry_from_text
-from .document import Document, check_declared_size
+from .document import Document, format_bytes
 
 #: parsing JSON numbers costs about this many bytes of memory per byte of text
 PARSE_BYTES_PER_TEXT_BYTE = 3
 _CHUNK = 1 << 16
 
 
+class _Offending(ValueError):
+    """A value json accepts but the format forbids; ``pattern`` finds it in the text."""
+
+    def __init__(self, message, pattern):
+        super().__init__(message)
+        self.pattern = pattern
+
+
 def _reject_constant(name: str):
-    raise ValueError(f"{name} is not JSON; the format forbids NaN and infinities")
+    raise _Offending(f"{name} is not JSON; the format forbids NaN and infinities",
+                     r"(?<![\w\"])" + re.escape(name) + r"(?![\w\"])")
 
 
 def _no_duplicates(pairs):
     out = {}
     for key, value in pairs:
         if key in out:
-            raise ValueError(f"key {key!r} appears twice in one object")
+            raise _Offending(f"key {key!r} appears twice in one object", re.escape(json.dumps(key)) + r"\s*:")
         out[key] = value
     return out
+
+
+def _position_of(text: str, err: ValueError) -> str:
+    """' at line L, column C' of the offending token (its last occurrence for a repeated key)."""
+    pattern = getattr(err, "pattern", None)
+    if pattern is None:
+        return ""
+    matches = list(re.finditer(pattern, text))
+    if not matches:
+        return ""
+    where = matches[-1] if "appears twice" in str(err) else matches[0]
+    line = text.count("\n", 0, where.start()) + 1
+    column = where.start() - (text.rfind("\n", 0, where.start()) + 1) + 1
+    return f" at line {line}, column {column}"
 
 
 def read(path, *, memory: int) -> Document:
@@ -51,18 +75,25 @@ def read(path, *, memory: int) -> Document:
         size = os.path.getsize(path)
     except FileNotFoundError:
         raise ContainerError(None, "no such file", str(path)) from None
-    check_declared_size("(file)", (size,), PARSE_BYTES_PER_TEXT_BYTE, memory)
+    needed = size * PARSE_BYTES_PER_TEXT_BYTE
+    if needed > memory:
+        raise BudgetError(None, f"{format_bytes(size)} of JSON text needs about {format_bytes(needed)} to parse, "
+                          f"beyond the memory budget of {format_bytes(memory)}; raise --memory or use HDF5",
+                          str(path), needed=needed, budget=memory)
     try:
         with open(path, encoding="utf-8") as handle:
-            tree = json.load(handle, parse_constant=_reject_constant, object_pairs_hook=_no_duplicates)
+            text = handle.read()
+    except UnicodeDecodeError as err:
+        raise ContainerError(None, f"not UTF-8 text (byte {err.start}); is this an HDF5 file named .json?",
+                             str(path)) from None
+    try:
+        tree = json.loads(text, parse_constant=_reject_constant, object_pairs_hook=_no_duplicates)
     except json.JSONDecodeError as err:
         raise ContainerError(
             None, f"invalid JSON at line {err.lineno}, column {err.colno}: {err.msg}", str(path)
         ) from None
-    except UnicodeDecodeError as err:
-        raise ContainerError(None, f"not UTF-8 text (byte {err.start}); is this an HDF5 file named .json?", str(path)) from None
     except ValueError as err:
-        raise ContainerError(None, f"invalid JSON: {err}", str(path)) from None
+        raise ContainerError(None, f"invalid JSON{_position_of(text, err)}: {err}", str(path)) from None
     if not isinstance(tree, dict):
         raise ContainerError(None, f"expected a JSON object at the top, got {type(tree).__name__}", str(path))
     document = Document(path=str(path), container="json", tree=tree, locate=_locate, decoder=lambda: decode(tree))
@@ -95,9 +126,9 @@ def decode(tree: dict) -> dict:
     if isinstance(tree.get("provenance"), dict):
         provenance = dict(tree["provenance"])
         if isinstance(provenance.get("history"), list):
-            provenance["history"] = [
-                history_entry_from_text(s) if isinstance(s, str) else s for s in provenance["history"]
-            ]
+            # steps may be objects, or (mirroring HDF5) JSON text of objects
+            provenance["history"] = [history_entry_from_text(s, unwrap_strings=False) if isinstance(s, str) else s
+                                     for s in provenance["history"]]
         content["provenance"] = provenance
     return content
 
@@ -117,8 +148,9 @@ def _reference(i, entry):
 def decode_array(node: dict, field: str) -> np.ndarray:
     """NumPy array from ``{"shape", "data"}`` or ``{"shape", "real", "imag"}``.
 
-    >>> decode_array({"shape": [2], "real": [1.0, 2.0], "imag": [0.5, -0.0]}, "x")
-    array([1.+0.5j, 2.-0.j ])
+    >>> values = decode_array({"shape": [2], "real": [1.0, -0.0], "imag": [0.5, -0.0]}, "x")
+    >>> values.tolist(), bool(np.signbit(values.real[1])), bool(np.signbit(values.imag[1]))
+    ([(1+0.5j), (-0-0j)], True, True)
     """
     shape = node.get("shape")
     if not isinstance(shape, list) or not all(isinstance(s, int) and s >= 0 for s in shape):
@@ -127,9 +159,9 @@ def decode_array(node: dict, field: str) -> np.ndarray:
     if "data" in node:
         values = _numbers(node["data"], f"{field}.data", expected)
     elif "real" in node and "imag" in node:
-        values = _numbers(node["real"], f"{field}.real", expected) + 1j * _numbers(
-            node["imag"], f"{field}.imag", expected
-        )
+        values = np.empty(expected, dtype=np.complex128)  # built part by part: keeps signed zeros
+        values.real = _numbers(node["real"], f"{field}.real", expected)
+        values.imag = _numbers(node["imag"], f"{field}.imag", expected)
     else:
         raise FieldError(field, "an array needs 'data', or 'real' and 'imag'")
     return values.reshape(shape)
