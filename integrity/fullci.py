@@ -17,6 +17,7 @@ import numpy as np
 from .blocks import dense_chemist
 from .errors import BudgetError, FieldError
 from .fci import FCIResult, solve_arrays
+from .fci.problems import sz_conserved
 from .indexing import chemist_to_physicist, spin_orbital_index
 from .io import DEFAULT_MEMORY, format_bytes
 from .model import Hamiltonian, Reference
@@ -36,8 +37,11 @@ class Sector:
         return (self.alpha or 0) + (self.beta or 0)
 
 
-def solver_arrays(ham: Hamiltonian, memory: int = DEFAULT_MEMORY):
-    """(h1, eri as dense chemist, spatial irreps) for the solver, refusing what exceeds ``memory``."""
+def solver_arrays(ham: Hamiltonian, memory: int = DEFAULT_MEMORY, need_irreps: bool = True):
+    """(h1, eri as dense chemist, spatial irreps) for the solver, refusing what exceeds ``memory``.
+
+    Irreps are passed only when an irrep is targeted (``need_irreps``).
+    """
     two = ham.two_electron
     itemsize = np.dtype(two.array.dtype).itemsize
     blocks = 3 if ham.basis == "unrestricted" else 1
@@ -48,7 +52,7 @@ def solver_arrays(ham: Hamiltonian, memory: int = DEFAULT_MEMORY):
     eri = np.asarray(dense_chemist(two, ham.basis, ham.n))
     if two.antisymmetrized:
         eri = chemist_to_physicist(0.5 * eri)  # <pq||rs>/2 read as physicist, viewed as chemist
-    return np.asarray(ham.one_electron), eri, spatial_irreps(ham)
+    return np.asarray(ham.one_electron), eri, spatial_irreps(ham) if need_irreps else None
 
 
 def spatial_irreps(ham: Hamiltonian):
@@ -80,10 +84,12 @@ def solve(ham: Hamiltonian, *, alpha: int | None = None, beta: int | None = None
         raise FieldError("engine", f"expected 'native' or 'pyscf' here, got {engine!r}")
     if electrons is None and alpha is None and beta is None:
         alpha, beta = ham.electrons.alpha, ham.electrons.beta
-    h1, eri, irreps = solver_arrays(ham, memory)
+    h1, eri, irreps = solver_arrays(ham, memory, need_irreps=irrep is not None)
     counts = {"n_alpha": alpha, "n_beta": beta} if electrons is None else {"n_electrons": electrons}
     if ham.basis == "spin-orbital" and electrons is None:
-        counts = {"n_electrons": alpha + beta, "n_alpha": alpha, "n_beta": beta}
+        counts = {"n_electrons": alpha + beta}
+        if sz_conserved(h1, eri, ham.orbitals.spin_layout):
+            counts |= {"n_alpha": alpha, "n_beta": beta}
     return solve_arrays(ham.basis, h1, eri, ham.core_energy, **counts, spin_layout=ham.orbitals.spin_layout,
                         irreps=irreps, nroots=roots, two_s=two_s, irrep=irrep, root=root, engine=engine,
                         memory=memory, tol=tol)

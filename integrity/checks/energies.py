@@ -5,12 +5,30 @@ from __future__ import annotations
 import numpy as np
 
 from ..explain import constant_hints
-from ..meanfield import determinant_energy, fock_matrices, reference_occupation
+from ..meanfield import default_occupation, determinant_energy, fock_matrices, reference_occupation
 from .registry import Result, register, skipped
 
 
 def _tolerance(ref, ctx):
     return ref.tolerance if ref.tolerance is not None else ctx.limit
+
+
+def _layout_hint(ham, ref, expected, tolerance):
+    """Spin-orbital: does the energy match when the spin orbitals are read in the other layout?"""
+    if ham.basis != "spin-orbital":
+        return []
+    from ..model import Orbitals
+
+    other = "blocked" if ham.orbitals.spin_layout == "interleaved" else "interleaved"
+    orbitals = Orbitals(ham.n, "spin-orbital", other, ham.orbitals.point_group, ham.orbitals.irreps,
+                        ham.orbitals.canonical)
+    relabelled = ham.replace(orbitals=orbitals)
+    electrons = ham.electrons_of(ref)
+    occupation = default_occupation(relabelled, electrons.alpha, electrons.beta)
+    if abs(np.real(determinant_energy(relabelled, occupation)) - expected) <= tolerance:
+        return [f"read as {other}, the lowest alpha and beta spin orbitals give the reference energy: the spin "
+                f"orbitals are probably stored {other}"]
+    return []
 
 
 def _swapped_hint(ham, ref, expected, tolerance):
@@ -56,6 +74,7 @@ def check_hf(ham, ctx) -> Result:
     ref = worst["ref"]
     hints = constant_hints(ham, worst["difference"], worst["tolerance"])
     hints += _swapped_hint(ham, ref, ref.energy, worst["tolerance"])
+    hints += _layout_hint(ham, ref, ref.energy, worst["tolerance"])
     cause = "; ".join(hints) or ("the integrals, the occupation or the reference energy disagree "
                                  "(see two_electron.notation and electrons.count)")
     return Result("energy.hf", "fail",

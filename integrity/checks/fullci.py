@@ -78,8 +78,7 @@ def check_fci(ham, ctx) -> Result:
         except UnsupportedError as err:
             return skipped("energy.fci", f"reference {ref.label!r}: {err.reason}")
         except FieldError as err:
-            return skipped("energy.fci", f"reference {ref.label!r} cannot be solved: {err}; see "
-                           "two_electron.symmetry and one_electron.hermitian")
+            return skipped("energy.fci", f"reference {ref.label!r} cannot be solved: {err}")
         first = solved[0]
         difference = ref.energy - first["energy"]
         row = {"label": ref.label, "expected": ref.energy, "difference": difference, "tolerance": tolerance,
@@ -110,7 +109,8 @@ def check_fci(ham, ctx) -> Result:
         hints = (constant_hints(ham, difference, tolerance)
                  or _swapped_hint(ham, ref, ref.energy, tolerance, ctx.memory)
                  or _other_states_hint(ham, ref, ref.energy, tolerance, ctx.memory))
-        cause = "; ".join(hints) or "the integrals, the electron counts or the reference disagree"
+        notes = [note for note in first["notes"] if "not conserved" in note]
+        cause = "; ".join(hints + notes) or "the integrals, the electron counts or the reference disagree"
         message = (f"reference {ref.label!r} says {ref.energy:.10f} but full CI ({first['engine']}, {found}) "
                    f"gives {first['energy']:.10f} (difference {difference:.3g}, limit {tolerance:.3g}); {cause}")
     return Result("energy.fci", "fail", message, value=abs(difference), limit=tolerance,

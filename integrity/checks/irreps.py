@@ -11,7 +11,32 @@ from __future__ import annotations
 import numpy as np
 
 from ..blocks import chemist_slabs, spin_blocks
+from ..indexing import spin_orbital_index
 from .registry import Result, register, skipped
+
+
+def _spin_partner_mismatch(ham, g) -> Result | None:
+    """Spin orbitals of one spatial orbital must share its irrep; a mismatch betrays the layout."""
+    layout, spatial = ham.orbitals.spin_layout, ham.n // 2
+    alpha = spin_orbital_index(np.arange(spatial), 0, spatial, layout)
+    beta = spin_orbital_index(np.arange(spatial), 1, spatial, layout)
+    differ = np.flatnonzero(g[alpha] != g[beta])
+    if not differ.size:
+        return None
+    p = int(differ[0])
+    other = "blocked" if layout == "interleaved" else "interleaved"
+    hint = f"; the spin orbitals may be stored {other}" if _pairs_agree(g, spatial, other) else ""
+    where = f"orbitals.irreps[{int(alpha[p])}], [{int(beta[p])}]"
+    return Result("orbitals.irreps", "fail",
+                  f"{differ.size} spatial orbital(s) have alpha and beta spin orbitals of different irreps in the "
+                  f"{layout} layout: spatial orbital {p} is spin orbitals {int(alpha[p])} (irrep {g[alpha[p]]}) and "
+                  f"{int(beta[p])} (irrep {g[beta[p]]}){hint}", value=float(differ.size), limit=0.0, where=where)
+
+
+def _pairs_agree(g, spatial, layout) -> bool:
+    alpha = spin_orbital_index(np.arange(spatial), 0, spatial, layout)
+    beta = spin_orbital_index(np.arange(spatial), 1, spatial, layout)
+    return bool(np.all(g[alpha] == g[beta]))
 
 
 def _stored_slabs(ham):
@@ -30,6 +55,10 @@ def check_irreps(ham, ctx) -> Result:
     if irreps is None:
         return skipped("orbitals.irreps", "no orbital irreps stored")
     g = np.asarray(irreps, dtype=np.int64)
+    if ham.basis == "spin-orbital":
+        mismatch = _spin_partner_mismatch(ham, g)
+        if mismatch is not None:
+            return mismatch
     pair = g[:, None] ^ g[None, :]
     worst, where, count = 0.0, None, 0
     h = np.asarray(ham.one_electron)
