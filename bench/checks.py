@@ -59,8 +59,7 @@ def hamiltonian_of(eri: np.ndarray):
     from integrity.model import Electrons, Hamiltonian, Orbitals, TwoElectron
 
     n = eri.shape[0]
-    return Hamiltonian(Orbitals(n, "restricted"), Electrons(1, 1), 0.0, np.eye(n),
-                       TwoElectron(eri, notation="chemist"))
+    return Hamiltonian(Orbitals(n, "restricted"), Electrons(1, 1), 0.0, np.eye(n), TwoElectron(eri, notation="chemist"))
 
 
 def best_of(function, repeat=3):
@@ -84,15 +83,15 @@ def in_memory(n: int) -> None:
     first = time.perf_counter() - start
     _, peak = tracemalloc.get_traced_memory()
     tracemalloc.stop()
-    check_time = min(first, best_of(lambda: check(ham, select=["two_electron.symmetry"], fingerprint=False),
-                                    repeat=2))
+    check_time = min(first, best_of(lambda: check(ham, select=["two_electron.symmetry"], fingerprint=False), repeat=2))
     result = report.results[0]
     print(f"in memory: dense real chemist n = {n}, {eri.nbytes / 1e6:.0f} MB")
     print(f"  numpy.sum                 {sum_time:8.3f} s")
     print(f"  two_electron.symmetry     {check_time:8.3f} s   ({result.status}, value {result.value:.2g})")
     print(f"  ratio check / sum         {check_time / sum_time:8.1f}   (goal <= 10)")
-    print(f"  extra memory (peak)       {peak / 1e6:8.1f} MB = {100 * peak / eri.nbytes:.2f}% of the array "
-          "(goal < 10%)")
+    print(
+        f"  extra memory (peak)       {peak / 1e6:8.1f} MB = {100 * peak / eri.nbytes:.2f}% of the array (goal < 10%)"
+    )
 
 
 def write_hdf5(path: Path, n: int, rank: int, seed: int = 11) -> None:
@@ -106,8 +105,15 @@ def write_hdf5(path: Path, n: int, rank: int, seed: int = 11) -> None:
     table = pair_table(n)
     h1 = np.diag(np.linspace(-2.0, 1.0, n))
     with h5py.File(path, "w") as out:
-        out.attrs.update({"format": "integrity.hamiltonian", "format_version": 1, "energy_unit": "hartree",
-                          "title": f"bench: dense n = {n}", "core_energy": 0.0})
+        out.attrs.update(
+            {
+                "format": "integrity.hamiltonian",
+                "format_version": 1,
+                "energy_unit": "hartree",
+                "title": f"bench: dense n = {n}",
+                "core_energy": 0.0,
+            }
+        )
         orbitals = out.create_group("orbitals")
         orbitals.attrs.update({"count": n, "basis": "restricted"})
         electrons = out.create_group("electrons")
@@ -140,8 +146,10 @@ def on_disk(n: int, folder: Path, memory: str) -> None:
     elapsed = time.perf_counter() - start
     print(f"on disk: dense real chemist n = {n}, {size / 1e9:.2f} GB HDF5, --memory {memory}")
     print(f"  integrity check (all checks)   {elapsed:8.1f} s, exit status {code}")
-    print(f"  peak resident memory           {peak / 2**20:8.0f} MiB; interpreter and libraries alone "
-          f"{baseline / 2**20:.0f} MiB, so the checks added {(peak - baseline) / 2**20:.0f} MiB")
+    print(
+        f"  peak resident memory           {peak / 2**20:8.0f} MiB; interpreter and libraries alone "
+        f"{baseline / 2**20:.0f} MiB, so the checks added {(peak - baseline) / 2**20:.0f} MiB"
+    )
     print("  " + output.strip().replace("\n", "\n  "))
 
 

@@ -84,13 +84,9 @@ def peak_bytes(action) -> int:
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--quick", action="store_true", help="n = 40 instead of 100")
-    parser.add_argument(
-        "--n", type=int, default=None, help="number of orbitals (overrides --quick)"
-    )
+    parser.add_argument("--n", type=int, default=None, help="number of orbitals (overrides --quick)")
     parser.add_argument("--repeat", type=int, default=3, help="timed runs per case (best is kept)")
-    parser.add_argument(
-        "--noisy", action="store_true", help="also pack an array whose symmetry is broken at 1e-14"
-    )
+    parser.add_argument("--noisy", action="store_true", help="also pack an array whose symmetry is broken at 1e-14")
     args = parser.parse_args()
     n = args.n or (40 if args.quick else 100)
     dense = symmetric_dense(n)

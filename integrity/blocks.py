@@ -65,7 +65,11 @@ class _Block:
 
 
 def chemist_slabs(
-    block, notation: str, storage: str, n: int, slab_bytes: int | None = None,
+    block,
+    notation: str,
+    storage: str,
+    n: int,
+    slab_bytes: int | None = None,
     antisymmetrized: bool = False,
 ) -> Iterator[tuple[int, np.ndarray]]:
     """Yield (p0, slab) covering one spin block as dense chemist ``chem[p0:p0+len]``.

@@ -137,11 +137,18 @@ def _pyscf_version() -> str:
 
 def _molecule(gto, geometry, basis, unit, charge, two_s, symmetry):
     try:
-        mol = gto.M(atom=geometry, basis=basis, unit=unit, charge=charge, spin=two_s,
-                    symmetry=symmetry, verbose=0)
+        mol = gto.M(atom=geometry, basis=basis, unit=unit, charge=charge, spin=two_s, symmetry=symmetry, verbose=0)
         if symmetry and mol.groupname in LINEAR_SUBGROUP:
-            mol = gto.M(atom=geometry, basis=basis, unit=unit, charge=charge, spin=two_s,
-                        symmetry=True, symmetry_subgroup=LINEAR_SUBGROUP[mol.groupname], verbose=0)
+            mol = gto.M(
+                atom=geometry,
+                basis=basis,
+                unit=unit,
+                charge=charge,
+                spin=two_s,
+                symmetry=True,
+                symmetry_subgroup=LINEAR_SUBGROUP[mol.groupname],
+                verbose=0,
+            )
     except (RuntimeError, KeyError, ValueError) as err:
         raise FieldError("molecule", f"pyscf could not build it: {err}") from None
     return mol
@@ -169,8 +176,11 @@ def _active_space(mol, mf, active):
         return total, 0, nmo
     n_electrons, norb = active
     if n_electrons > total or (total - n_electrons) % 2:
-        raise FieldError("active", f"{n_electrons} active electrons leave {total - n_electrons} of {total} "
-                         "for the frozen core, which needs an even, non-negative number")
+        raise FieldError(
+            "active",
+            f"{n_electrons} active electrons leave {total - n_electrons} of {total} "
+            "for the frozen core, which needs an even, non-negative number",
+        )
     ncore = (total - n_electrons) // 2
     if ncore + norb > nmo:
         raise FieldError("active", f"{ncore} frozen and {norb} active orbitals exceed the {nmo} molecular orbitals")

@@ -88,16 +88,37 @@ ENGINES = click.Choice(["native", "pyscf", "both"])
 
 @main.command()
 @click.argument("paths", nargs=-1, required=True, type=click.Path(exists=True))
-@click.option("--format", "output_format", type=click.Choice(["text", "json"]), default="text",
-              show_default=True, help="Text for people, JSON (schemas/report.schema.json) for programs.")
+@click.option(
+    "--format",
+    "output_format",
+    type=click.Choice(["text", "json"]),
+    default="text",
+    show_default=True,
+    help="Text for people, JSON (schemas/report.schema.json) for programs.",
+)
 @click.option("--select", multiple=True, metavar="ID", help="Run only this check (repeatable).")
 @click.option("--skip", multiple=True, metavar="ID", help="Do not run this check (repeatable).")
-@click.option("--tolerance", multiple=True, metavar="ID=VALUE", callback=_tolerance,
-              help="Limit for one check, e.g. energy.hf=1e-8 (repeatable).")
-@click.option("--engine", type=ENGINES, default="native", show_default=True,
-              help="Full-CI engine for energy.fci; both: a disagreement fails.")
-@click.option("--memory", type=MEMORY, default=str(DEFAULT_MEMORY), show_default="4GiB",
-              help="Memory budget; larger arrays are checked block by block.")
+@click.option(
+    "--tolerance",
+    multiple=True,
+    metavar="ID=VALUE",
+    callback=_tolerance,
+    help="Limit for one check, e.g. energy.hf=1e-8 (repeatable).",
+)
+@click.option(
+    "--engine",
+    type=ENGINES,
+    default="native",
+    show_default=True,
+    help="Full-CI engine for energy.fci; both: a disagreement fails.",
+)
+@click.option(
+    "--memory",
+    type=MEMORY,
+    default=str(DEFAULT_MEMORY),
+    show_default="4GiB",
+    help="Memory budget; larger arrays are checked block by block.",
+)
 @click.option("--strict", is_flag=True, help="A warning fails the file.")
 @click.option("--list", "list_checks", is_flag=True, help="List the check ids and exit.")
 @guarded
@@ -125,8 +146,9 @@ def check(paths, output_format, select, skip, tolerance, engine, memory, strict,
         return
     if not find_files(paths):
         raise click.UsageError("no *.h5, *.hdf5 or *.json files under the paths given")
-    reports = check_paths(paths, select=select, skip=skip, tolerances=tolerance, memory=memory,
-                          engine=engine, strict=strict)
+    reports = check_paths(
+        paths, select=select, skip=skip, tolerances=tolerance, memory=memory, engine=engine, strict=strict
+    )
     if output_format == "json":
         click.echo(json.dumps(report_document(reports, strict), indent=2))
     else:
@@ -142,16 +164,22 @@ def check(paths, output_format, select, skip, tolerance, engine, memory, strict,
 @click.option("--roots", type=click.IntRange(min=1), default=1, show_default=True, help="How many states.")
 @click.option("--alpha", type=click.IntRange(min=0), help="Alpha electrons (default: the file's).")
 @click.option("--beta", type=click.IntRange(min=0), help="Beta electrons (default: the file's).")
-@click.option("--electrons", type=click.IntRange(min=0),
-              help="Total electrons only (spin-orbital files that couple the spins).")
+@click.option(
+    "--electrons", type=click.IntRange(min=0), help="Total electrons only (spin-orbital files that couple the spins)."
+)
 @click.option("--two-s", type=click.IntRange(min=0), help="Keep only states with this 2S.")
 @click.option("--irrep", type=click.IntRange(0, 7), help="Keep only states of this irrep (needs irreps).")
-@click.option("--engine", type=ENGINES, default="native", show_default=True,
-              help="Our solver, pyscf's, or both side by side.")
-@click.option("--memory", type=MEMORY, default=str(DEFAULT_MEMORY), show_default="4GiB",
-              help="Refuse a solve whose estimate exceeds this.")
-@click.option("--format", "output_format", type=click.Choice(["text", "json"]), default="text",
-              show_default=True)
+@click.option(
+    "--engine", type=ENGINES, default="native", show_default=True, help="Our solver, pyscf's, or both side by side."
+)
+@click.option(
+    "--memory",
+    type=MEMORY,
+    default=str(DEFAULT_MEMORY),
+    show_default="4GiB",
+    help="Refuse a solve whose estimate exceeds this.",
+)
+@click.option("--format", "output_format", type=click.Choice(["text", "json"]), default="text", show_default=True)
 @guarded
 def solve(file, roots, alpha, beta, electrons, two_s, irrep, engine, memory, output_format):
     """Full-CI energies of the lowest states of FILE, with their 2S (and irrep).
@@ -169,8 +197,20 @@ def solve(file, roots, alpha, beta, electrons, two_s, irrep, engine, memory, out
         raise click.UsageError("give --electrons or --alpha/--beta, not both")
     ham = load(file, memory=memory)
     engines = ("native", "pyscf") if engine == "both" else (engine,)
-    results = [solve_hamiltonian(ham, alpha=alpha, beta=beta, electrons=electrons, roots=roots, two_s=two_s,
-                                 irrep=irrep, engine=name, memory=memory) for name in engines]
+    results = [
+        solve_hamiltonian(
+            ham,
+            alpha=alpha,
+            beta=beta,
+            electrons=electrons,
+            roots=roots,
+            two_s=two_s,
+            irrep=irrep,
+            engine=name,
+            memory=memory,
+        )
+        for name in engines
+    ]
     if output_format == "json":
         click.echo(json.dumps({"path": file, "results": [_solution_dict(r) for r in results]}, indent=2))
     else:
@@ -179,29 +219,49 @@ def solve(file, roots, alpha, beta, electrons, two_s, irrep, engine, memory, out
 
 def _solution_dict(result) -> dict:
     return {
-        "engine": result.engine, "alpha": result.n_alpha, "beta": result.n_beta, "electrons": result.n_electrons,
-        "determinants": result.determinants, "iterations": result.iterations,
-        "memory_estimate": result.memory_estimate, "notes": list(result.notes),
-        "roots": [{"energy": r.energy, "two_s": r.two_s, "s_squared": r.s_squared, "irrep": r.irrep,
-                   "residual": r.residual_norm, "converged": r.converged} for r in result.roots],
+        "engine": result.engine,
+        "alpha": result.n_alpha,
+        "beta": result.n_beta,
+        "electrons": result.n_electrons,
+        "determinants": result.determinants,
+        "iterations": result.iterations,
+        "memory_estimate": result.memory_estimate,
+        "notes": list(result.notes),
+        "roots": [
+            {
+                "energy": r.energy,
+                "two_s": r.two_s,
+                "s_squared": r.s_squared,
+                "irrep": r.irrep,
+                "residual": r.residual_norm,
+                "converged": r.converged,
+            }
+            for r in result.roots
+        ],
     }
 
 
 def _solution_text(path, results) -> str:
     lines = [str(path)]
     for result in results:
-        counts = (f"{result.n_alpha} alpha, {result.n_beta} beta" if result.n_alpha is not None
-                  else f"{result.n_electrons} electrons")
-        lines.append(f"  {result.engine}: {counts}, {result.determinants} determinants"
-                     + (f", {result.iterations} iterations" if result.iterations is not None else ""))
+        counts = (
+            f"{result.n_alpha} alpha, {result.n_beta} beta"
+            if result.n_alpha is not None
+            else f"{result.n_electrons} electrons"
+        )
+        lines.append(
+            f"  {result.engine}: {counts}, {result.determinants} determinants"
+            + (f", {result.iterations} iterations" if result.iterations is not None else "")
+        )
         lines.append(f"  {'root':>6} {'energy / hartree':>20} {'2S':>4} {'<S^2>':>10} {'irrep':>6} {'residual':>10}")
         for index, root in enumerate(result.roots):
             two_s = "-" if root.two_s is None else str(root.two_s)
             s2 = "-" if root.s_squared is None else f"{root.s_squared:.6f}"
             irrep = "-" if root.irrep is None else str(root.irrep)
             flag = "" if root.converged else "  (not converged)"
-            lines.append(f"  {index:>6} {root.energy:>20.10f} {two_s:>4} {s2:>10} {irrep:>6} "
-                         f"{root.residual_norm:>10.1e}{flag}")
+            lines.append(
+                f"  {index:>6} {root.energy:>20.10f} {two_s:>4} {s2:>10} {irrep:>6} {root.residual_norm:>10.1e}{flag}"
+            )
         lines += [f"  note: {note}" for note in result.notes]
     return "\n".join(lines)
 
@@ -211,16 +271,26 @@ def _solution_text(path, results) -> str:
 @click.argument("out_path", metavar="OUT", type=click.Path(dir_okay=False))
 @click.option("--notation", type=click.Choice(["chemist", "physicist"]), help="Index order of the result.")
 @click.option("--storage", type=click.Choice(["dense", "pairs", "unique"]), help="Packing of the result.")
-@click.option("--basis", type=click.Choice(["restricted", "unrestricted", "spin-orbital"]),
-              help="Orbital basis of the result.")
-@click.option("--spin-layout", type=click.Choice(["interleaved", "blocked"]),
-              help="Spin-orbital order (default interleaved).")
+@click.option(
+    "--basis", type=click.Choice(["restricted", "unrestricted", "spin-orbital"]), help="Orbital basis of the result."
+)
+@click.option(
+    "--spin-layout", type=click.Choice(["interleaved", "blocked"]), help="Spin-orbital order (default interleaved)."
+)
 @click.option("--antisymmetrize", is_flag=True, help="Store <pq||rs> (spin-orbital, physicist; cannot be undone).")
-@click.option("--tolerance", type=float, default=1e-10, show_default=True,
-              help="Largest deviation a lossy step may drop without --force (hartree).")
-@click.option("--force", is_flag=True,
-              help="Replace OUT if it exists; do lossy steps beyond the tolerance (recorded in the history); "
-                   "accept a damaged checksum. IN is never replaced.")
+@click.option(
+    "--tolerance",
+    type=float,
+    default=1e-10,
+    show_default=True,
+    help="Largest deviation a lossy step may drop without --force (hartree).",
+)
+@click.option(
+    "--force",
+    is_flag=True,
+    help="Replace OUT if it exists; do lossy steps beyond the tolerance (recorded in the history); "
+    "accept a damaged checksum. IN is never replaced.",
+)
 @guarded
 def convert(in_path, out_path, notation, storage, basis, spin_layout, antisymmetrize, tolerance, force):
     """Convert IN into a new file OUT; the container follows OUT's extension (.h5, .hdf5, .json).
@@ -238,9 +308,18 @@ def convert(in_path, out_path, notation, storage, basis, spin_layout, antisymmet
     """
     from .convert import convert_file
 
-    result = convert_file(in_path, out_path, force_overwrite=force, notation=notation, storage=storage,
-                          basis=basis, spin_layout=spin_layout, antisymmetrize=antisymmetrize, force=force,
-                          tolerance=tolerance)
+    result = convert_file(
+        in_path,
+        out_path,
+        force_overwrite=force,
+        notation=notation,
+        storage=storage,
+        basis=basis,
+        spin_layout=spin_layout,
+        antisymmetrize=antisymmetrize,
+        force=force,
+        tolerance=tolerance,
+    )
     for step in result.steps:
         dropped = f", dropped up to {step['dropped_max_deviation']:.3g}" if "dropped_max_deviation" in step else ""
         changed = " (new fingerprint)" if step.get("fingerprint_changed") else ""
@@ -252,12 +331,14 @@ def convert(in_path, out_path, notation, storage, basis, spin_layout, antisymmet
 @click.argument("file", type=click.Path(dir_okay=False))
 @click.option("--expected", type=float, help="The energy someone expected (hartree).")
 @click.option("--reference", "label", metavar="LABEL", help="Explain a stored reference instead.")
-@click.option("--method", type=click.Choice(["hf", "fci"]),
-              help="What the expected energy is: the determinant (hf) or full CI (default fci).")
+@click.option(
+    "--method",
+    type=click.Choice(["hf", "fci"]),
+    help="What the expected energy is: the determinant (hf) or full CI (default fci).",
+)
 @click.option("--tolerance", type=float, default=1e-6, show_default=True, help="Hartree.")
 @click.option("--memory", type=MEMORY, default=str(DEFAULT_MEMORY), show_default="4GiB")
-@click.option("--format", "output_format", type=click.Choice(["text", "json"]), default="text",
-              show_default=True)
+@click.option("--format", "output_format", type=click.Choice(["text", "json"]), default="text", show_default=True)
 @guarded
 def diagnose(file, expected, label, method, tolerance, memory, output_format):
     """Explain why FILE does not give an expected energy: each known mistake is re-enacted
@@ -274,14 +355,34 @@ def diagnose(file, expected, label, method, tolerance, memory, output_format):
 
     if (expected is None) == (label is None):
         raise click.UsageError("give --expected E or --reference LABEL")
-    finding = explain(load(file, memory=memory), expected=expected, reference=label, method=method,
-                      tolerance=tolerance, memory=memory)
+    finding = explain(
+        load(file, memory=memory), expected=expected, reference=label, method=method, tolerance=tolerance, memory=memory
+    )
     if output_format == "json":
-        click.echo(json.dumps({
-            "path": file, "expected": finding.expected, "method": finding.method, "computed": finding.computed,
-            "difference": finding.difference, "tolerance": finding.tolerance, "matches": finding.matches,
-            "hypotheses": [{"name": h.name, "description": h.description, "energy": h.energy,
-                            "matches": h.matches, "note": h.note} for h in finding.hypotheses]}, indent=2))
+        click.echo(
+            json.dumps(
+                {
+                    "path": file,
+                    "expected": finding.expected,
+                    "method": finding.method,
+                    "computed": finding.computed,
+                    "difference": finding.difference,
+                    "tolerance": finding.tolerance,
+                    "matches": finding.matches,
+                    "hypotheses": [
+                        {
+                            "name": h.name,
+                            "description": h.description,
+                            "energy": h.energy,
+                            "matches": h.matches,
+                            "note": h.note,
+                        }
+                        for h in finding.hypotheses
+                    ],
+                },
+                indent=2,
+            )
+        )
     else:
         click.echo(render(finding, file))
     if not finding.matches:
@@ -290,10 +391,21 @@ def diagnose(file, expected, label, method, tolerance, memory, output_format):
 
 @main.command()
 @click.argument("file", type=click.Path(dir_okay=False))
-@click.option("--format", "output_format", type=click.Choice(["text", "json"]), default="text",
-              show_default=True, help="Text for people, JSON for programs.")
-@click.option("--memory", type=MEMORY, default=str(DEFAULT_MEMORY), show_default="4GiB",
-              help="Largest array the file may declare.")
+@click.option(
+    "--format",
+    "output_format",
+    type=click.Choice(["text", "json"]),
+    default="text",
+    show_default=True,
+    help="Text for people, JSON for programs.",
+)
+@click.option(
+    "--memory",
+    type=MEMORY,
+    default=str(DEFAULT_MEMORY),
+    show_default="4GiB",
+    help="Largest array the file may declare.",
+)
 @guarded
 def show(file, output_format, memory):
     """Summarize FILE: basis, counts, notation, storage, norms, fingerprint, references.
@@ -314,25 +426,51 @@ def show(file, output_format, memory):
 @main.command()
 @click.argument("arrays", type=click.Path(exists=True, dir_okay=False))
 @click.argument("out", type=click.Path(dir_okay=False))
-@click.option("--notation", type=click.Choice(["chemist", "physicist"]), required=True,
-              help="Index order of two_electron: chemist (pq|rs) or physicist <pq|rs>.")
+@click.option(
+    "--notation",
+    type=click.Choice(["chemist", "physicist"]),
+    required=True,
+    help="Index order of two_electron: chemist (pq|rs) or physicist <pq|rs>.",
+)
 @click.option("--alpha", type=click.IntRange(min=0), required=True, help="Alpha electrons.")
 @click.option("--beta", type=click.IntRange(min=0), required=True, help="Beta electrons.")
-@click.option("--basis", type=click.Choice(["restricted", "unrestricted", "spin-orbital"]), required=True,
-              help="Orbital basis of the arrays.")
-@click.option("--spin-layout", type=click.Choice(["interleaved", "blocked"]),
-              help="Required for --basis spin-orbital.")
-@click.option("--storage", type=click.Choice(["dense", "pairs", "unique"]),
-              help="Storage of two_electron; read from its number of axes when omitted.")
-@click.option("--core-energy", type=float,
-              help="Energy with no electron operator (hartree); required when the .npz has no core_energy.")
+@click.option(
+    "--basis",
+    type=click.Choice(["restricted", "unrestricted", "spin-orbital"]),
+    required=True,
+    help="Orbital basis of the arrays.",
+)
+@click.option("--spin-layout", type=click.Choice(["interleaved", "blocked"]), help="Required for --basis spin-orbital.")
+@click.option(
+    "--storage",
+    type=click.Choice(["dense", "pairs", "unique"]),
+    help="Storage of two_electron; read from its number of axes when omitted.",
+)
+@click.option(
+    "--core-energy",
+    type=float,
+    help="Energy with no electron operator (hartree); required when the .npz has no core_energy.",
+)
 @click.option("--interaction", type=click.Choice(["coulomb", "model"]), help="Default coulomb.")
 @click.option("--antisymmetrized", is_flag=True, help="two_electron holds <pq||rs> (spin-orbital physicist).")
 @click.option("--title", help="One line for people.")
 @click.option("--force", is_flag=True, help="Replace OUT if it exists.")
 @guarded
-def wrap(arrays, out, notation, alpha, beta, basis, spin_layout, storage, core_energy, interaction,
-         antisymmetrized, title, force):
+def wrap(
+    arrays,
+    out,
+    notation,
+    alpha,
+    beta,
+    basis,
+    spin_layout,
+    storage,
+    core_energy,
+    interaction,
+    antisymmetrized,
+    title,
+    force,
+):
     """Wrap plain arrays from ARRAYS.npz (one_electron, two_electron, optional core_energy,
     irreps) into a Hamiltonian file OUT. Notation, electron counts and basis are never guessed.
 
@@ -343,9 +481,17 @@ def wrap(arrays, out, notation, alpha, beta, basis, spin_layout, storage, core_e
     from .wrap import wrap_arrays
 
     ham = wrap_arrays(
-        arrays, notation=notation, alpha=alpha, beta=beta, basis=basis, spin_layout=spin_layout,
-        storage=storage, core_energy=core_energy, interaction=interaction,
-        antisymmetrized=antisymmetrized or None, title=title,
+        arrays,
+        notation=notation,
+        alpha=alpha,
+        beta=beta,
+        basis=basis,
+        spin_layout=spin_layout,
+        storage=storage,
+        core_energy=core_energy,
+        interaction=interaction,
+        antisymmetrized=antisymmetrized or None,
+        title=title,
     )
     save(ham, out, force=force)
     click.echo(f"wrote {out}")
@@ -369,18 +515,29 @@ def _active(ctx, param, value):
 @click.option("--unit", type=click.Choice(["angstrom", "bohr"]), default="angstrom", show_default=True)
 @click.option("--basis", "basis_set", required=True, help="Gaussian basis set, e.g. sto-3g, cc-pvdz.")
 @click.option("--charge", type=int, default=0, show_default=True)
-@click.option("--two-s", type=click.IntRange(min=0), default=0, show_default=True,
-              help="2S of the state: 0 singlet, 1 doublet, 2 triplet.")
+@click.option(
+    "--two-s",
+    type=click.IntRange(min=0),
+    default=0,
+    show_default=True,
+    help="2S of the state: 0 singlet, 1 doublet, 2 triplet.",
+)
 @click.option("--active", callback=_active, help="Active space ELECTRONS,ORBITALS; the rest frozen as core.")
 @click.option("--unrestricted", is_flag=True, help="UHF orbitals (an unrestricted file).")
 @click.option("--no-symmetry", is_flag=True, help="Do not detect the point group.")
-@click.option("--max-fci-determinants", type=click.IntRange(min=1), default=1_000_000, show_default=True,
-              help="Store an fci reference only for spaces up to this size.")
+@click.option(
+    "--max-fci-determinants",
+    type=click.IntRange(min=1),
+    default=1_000_000,
+    show_default=True,
+    help="Store an fci reference only for spaces up to this size.",
+)
 @click.option("--title", help="One line for people.")
 @click.option("--force", is_flag=True, help="Replace OUT if it exists.")
 @guarded
-def build(out, atom, unit, basis_set, charge, two_s, active, unrestricted, no_symmetry,
-          max_fci_determinants, title, force):
+def build(
+    out, atom, unit, basis_set, charge, two_s, active, unrestricted, no_symmetry, max_fci_determinants, title, force
+):
     """Build a Hamiltonian file OUT from a molecule with pyscf (SCF, optional active space,
     hf and fci references, provenance).
 
@@ -391,10 +548,17 @@ def build(out, atom, unit, basis_set, charge, two_s, active, unrestricted, no_sy
     from .build import build as build_hamiltonian
 
     ham = build_hamiltonian(
-        atom, basis_set, unit=unit, charge=charge, two_s=two_s, unrestricted=unrestricted,
-        active=active, symmetry=not no_symmetry, max_fci_determinants=max_fci_determinants, title=title,
+        atom,
+        basis_set,
+        unit=unit,
+        charge=charge,
+        two_s=two_s,
+        unrestricted=unrestricted,
+        active=active,
+        symmetry=not no_symmetry,
+        max_fci_determinants=max_fci_determinants,
+        title=title,
     )
     save(ham, out, force=force)
     energies = ", ".join(f"{r.label} {r.energy:.10f}" for r in ham.references)
     click.echo(f"wrote {out}: {ham.n} {ham.basis} orbitals, {energies}")
-

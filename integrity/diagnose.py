@@ -70,13 +70,27 @@ def _energy(ham: Hamiltonian, target: _Target, memory: int) -> float:
     if target.method == "hf":
         occupation = target.occupation or default_occupation(ham, target.electrons.alpha, target.electrons.beta)
         return float(np.real(determinant_energy(ham, occupation)))
-    result = solve(ham, alpha=target.electrons.alpha, beta=target.electrons.beta, two_s=target.two_s,
-                   irrep=target.irrep, root=target.root, memory=memory)
+    result = solve(
+        ham,
+        alpha=target.electrons.alpha,
+        beta=target.electrons.beta,
+        two_s=target.two_s,
+        irrep=target.irrep,
+        root=target.root,
+        memory=memory,
+    )
     return result.roots[0].energy
 
 
-def diagnose(ham: Hamiltonian, *, expected: float | None = None, reference: str | None = None,
-             method: str | None = None, tolerance: float = 1e-6, memory: int = DEFAULT_MEMORY) -> Diagnosis:
+def diagnose(
+    ham: Hamiltonian,
+    *,
+    expected: float | None = None,
+    reference: str | None = None,
+    method: str | None = None,
+    tolerance: float = 1e-6,
+    memory: int = DEFAULT_MEMORY,
+) -> Diagnosis:
     """Compare the file's energy with ``expected`` (or a reference's) and test the hypotheses.
 
     ``method`` is "hf" (the determinant) or "fci"; by default the reference's,
@@ -87,8 +101,10 @@ def diagnose(ham: Hamiltonian, *, expected: float | None = None, reference: str 
     difference = expected - computed
     hypotheses = [Hypothesis("as stored", "the file as it is", computed, abs(difference) <= tolerance)]
     if not hypotheses[0].matches:
-        hypotheses += [Hypothesis("constants", hint, computed + difference, True)
-                       for hint in constant_hints(ham, difference, tolerance)]
+        hypotheses += [
+            Hypothesis("constants", hint, computed + difference, True)
+            for hint in constant_hints(ham, difference, tolerance)
+        ]
         for name, description, variant, changed in _variants(ham, target):
             hypotheses.append(_evaluate(name, description, variant, changed, expected, tolerance, memory))
         if target.method == "fci":
@@ -128,30 +144,52 @@ def _variants(ham: Hamiltonian, target: _Target):
     two = ham.two_electron
     if two.storage == "dense" and not two.antisymmetrized:
         other = "physicist" if two.notation == "chemist" else "chemist"
-        yield ("notation", f"two_electron is really {other}, stored under the label {two.notation}",
-               _quiet(ham.replace, two_electron=TwoElectron(two.array, other, "dense", two.interaction)), target)
+        yield (
+            "notation",
+            f"two_electron is really {other}, stored under the label {two.notation}",
+            _quiet(ham.replace, two_electron=TwoElectron(two.array, other, "dense", two.interaction)),
+            target,
+        )
     electrons = target.electrons
     if electrons.alpha != electrons.beta:
-        swapped = _Target(target.method, Electrons(electrons.beta, electrons.alpha), target.two_s, target.irrep,
-                          target.root, None)
+        swapped = _Target(
+            target.method, Electrons(electrons.beta, electrons.alpha), target.two_s, target.irrep, target.root, None
+        )
         yield ("alpha/beta", "the alpha and beta counts are exchanged", ham, swapped)
     for d_alpha, d_beta in ((1, 0), (0, 1), (-1, 0), (0, -1), (1, 1), (-1, -1)):
         counts = Electrons(electrons.alpha + d_alpha, electrons.beta + d_beta)
         if min(counts.alpha, counts.beta) < 0 or max(counts.alpha, counts.beta) > ham.orbitals.per_spin:
             continue
-        yield ("electrons", f"the state has {counts.alpha} alpha and {counts.beta} beta electrons",
-               ham, _Target(target.method, counts, None, None, 0, None))
+        yield (
+            "electrons",
+            f"the state has {counts.alpha} alpha and {counts.beta} beta electrons",
+            ham,
+            _Target(target.method, counts, None, None, 0, None),
+        )
     for factor in (2.0, 0.5):
-        scaled = _quiet(ham.replace, two_electron=TwoElectron(np.asarray(two.array) * factor, two.notation,
-                                                               two.storage, two.interaction, two.antisymmetrized))
-        yield ("factor", f"the two-electron term is scaled by {factor:g} (a 1/2 convention applied twice "
-               "or not at all)", scaled, target)
+        scaled = _quiet(
+            ham.replace,
+            two_electron=TwoElectron(
+                np.asarray(two.array) * factor, two.notation, two.storage, two.interaction, two.antisymmetrized
+            ),
+        )
+        yield (
+            "factor",
+            f"the two-electron term is scaled by {factor:g} (a 1/2 convention applied twice or not at all)",
+            scaled,
+            target,
+        )
     if ham.basis == "spin-orbital":
         other = "blocked" if ham.orbitals.spin_layout == "interleaved" else "interleaved"
-        orbitals = Orbitals(ham.n, "spin-orbital", other, ham.orbitals.point_group, ham.orbitals.irreps,
-                            ham.orbitals.canonical)
-        yield ("spin layout", f"the spin orbitals are really {other}", _quiet(ham.replace, orbitals=orbitals),
-               _Target(target.method, electrons, target.two_s, target.irrep, target.root, None))
+        orbitals = Orbitals(
+            ham.n, "spin-orbital", other, ham.orbitals.point_group, ham.orbitals.irreps, ham.orbitals.canonical
+        )
+        yield (
+            "spin layout",
+            f"the spin orbitals are really {other}",
+            _quiet(ham.replace, orbitals=orbitals),
+            _Target(target.method, electrons, target.two_s, target.irrep, target.root, None),
+        )
 
 
 def _quiet(function, **kwargs):
@@ -166,36 +204,61 @@ def _other_states(ham, target, expected, tolerance, memory) -> list[Hypothesis]:
     try:
         states = solve(ham, alpha=target.electrons.alpha, beta=target.electrons.beta, roots=8, memory=memory)
     except (FieldError, UnsupportedError, BudgetError) as err:
-        return [Hypothesis("other state", "another state of these electron counts", None, False,
-                           note=f"not evaluated: {err.reason}")]
+        return [
+            Hypothesis(
+                "other state",
+                "another state of these electron counts",
+                None,
+                False,
+                note=f"not evaluated: {err.reason}",
+            )
+        ]
     found = []
     for index, state in enumerate(states.roots):
         if abs(state.energy - expected) <= tolerance:
             spin = f"2S = {state.two_s}" if state.two_s is not None else "2S unknown"
             irrep = f", irrep {state.irrep}" if state.irrep is not None else ""
-            found.append(Hypothesis("other state", f"the expected energy is state {index} of this sector "
-                                    f"({spin}{irrep})", state.energy, True))
+            found.append(
+                Hypothesis(
+                    "other state",
+                    f"the expected energy is state {index} of this sector ({spin}{irrep})",
+                    state.energy,
+                    True,
+                )
+            )
     if not found:
-        found.append(Hypothesis("other state", "another of the 8 lowest states of these electron counts",
-                                states.roots[-1].energy, False, note="none matches"))
+        found.append(
+            Hypothesis(
+                "other state",
+                "another of the 8 lowest states of these electron counts",
+                states.roots[-1].energy,
+                False,
+                note="none matches",
+            )
+        )
     return found
 
 
 def render(diagnosis: Diagnosis, path: str) -> str:
     """Plain-text report of a diagnosis."""
-    head = (f"{path}: expected {diagnosis.expected:.10f}, the file gives {diagnosis.computed:.10f} "
-            f"({diagnosis.method}; difference {diagnosis.difference:.3g}, tolerance {diagnosis.tolerance:.3g})")
+    head = (
+        f"{path}: expected {diagnosis.expected:.10f}, the file gives {diagnosis.computed:.10f} "
+        f"({diagnosis.method}; difference {diagnosis.difference:.3g}, tolerance {diagnosis.tolerance:.3g})"
+    )
     if diagnosis.matches:
         return head + "\n  the energy matches as stored"
     lines = [head]
     explanations = diagnosis.explanations
     if explanations:
         lines.append("  hypotheses that reproduce the expected energy:")
-        lines += [f"    {h.name}: {h.description}" + (f" ({h.energy:.10f})" if h.energy is not None else "")
-                  for h in explanations]
+        lines += [
+            f"    {h.name}: {h.description}" + (f" ({h.energy:.10f})" if h.energy is not None else "")
+            for h in explanations
+        ]
     else:
         lines.append("  no hypothesis reproduces the expected energy; tried:")
-        lines += [f"    {h.name}: {h.description}" + (f" -> {h.energy:.10f}" if h.energy is not None else
-                                                      f" ({h.note})")
-                  for h in diagnosis.hypotheses[1:]]
+        lines += [
+            f"    {h.name}: {h.description}" + (f" -> {h.energy:.10f}" if h.energy is not None else f" ({h.note})")
+            for h in diagnosis.hypotheses[1:]
+        ]
     return "\n".join(lines)

@@ -14,11 +14,14 @@ def constant_hints(ham: Hamiltonian, difference: float, tolerance: float) -> lis
     """Hints from the constants alone: difference = expected - computed."""
     hints = []
     if abs(difference - ham.core_energy) <= tolerance and ham.core_energy != 0:
-        hints.append("the difference equals core_energy: the expected energy includes a constant the file "
-                     "lacks (or the expected value is electronic only, the other way round)")
+        hints.append(
+            "the difference equals core_energy: the expected energy includes a constant the file "
+            "lacks (or the expected value is electronic only, the other way round)"
+        )
     elif abs(difference + ham.core_energy) <= tolerance and ham.core_energy != 0:
-        hints.append("the difference equals minus core_energy: the expected energy is electronic only, "
-                     "without core_energy")
+        hints.append(
+            "the difference equals minus core_energy: the expected energy is electronic only, without core_energy"
+        )
     for name, value in (ham.core_energy_parts or {}).items():
         if value == 0:
             continue

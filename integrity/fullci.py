@@ -47,8 +47,13 @@ def solver_arrays(ham: Hamiltonian, memory: int = DEFAULT_MEMORY, need_irreps: b
     blocks = 3 if ham.basis == "unrestricted" else 1
     dense_bytes = blocks * ham.n**4 * itemsize
     if not isinstance(two.array, np.ndarray) and dense_bytes > memory // 2:
-        raise BudgetError("two_electron", f"full CI needs the dense array in memory ({format_bytes(dense_bytes)}), "
-                          f"beyond half the budget of {format_bytes(memory)}", needed=dense_bytes, budget=memory)
+        raise BudgetError(
+            "two_electron",
+            f"full CI needs the dense array in memory ({format_bytes(dense_bytes)}), "
+            f"beyond half the budget of {format_bytes(memory)}",
+            needed=dense_bytes,
+            budget=memory,
+        )
     eri = np.asarray(dense_chemist(two, ham.basis, ham.n))
     if two.antisymmetrized:
         eri = chemist_to_physicist(0.5 * eri)  # <pq||rs>/2 read as physicist, viewed as chemist
@@ -65,15 +70,28 @@ def spatial_irreps(ham: Hamiltonian):
     beta = [irreps[spin_orbital_index(p, 1, spatial, layout)] for p in range(spatial)]
     if alpha != beta:
         p = next(i for i in range(spatial) if alpha[i] != beta[i])
-        raise FieldError("orbitals.irreps", f"spatial orbital {p} has alpha irrep {alpha[p]} but beta irrep "
-                         f"{beta[p]}; spin orbitals of one spatial orbital share its irrep")
+        raise FieldError(
+            "orbitals.irreps",
+            f"spatial orbital {p} has alpha irrep {alpha[p]} but beta irrep "
+            f"{beta[p]}; spin orbitals of one spatial orbital share its irrep",
+        )
     return alpha
 
 
-def solve(ham: Hamiltonian, *, alpha: int | None = None, beta: int | None = None,
-          electrons: int | None = None, roots: int = 1, two_s: int | None = None,
-          irrep: int | None = None, root: int = 0, engine: str = "native",
-          memory: int = DEFAULT_MEMORY, tol: float = 1e-9) -> FCIResult:
+def solve(
+    ham: Hamiltonian,
+    *,
+    alpha: int | None = None,
+    beta: int | None = None,
+    electrons: int | None = None,
+    roots: int = 1,
+    two_s: int | None = None,
+    irrep: int | None = None,
+    root: int = 0,
+    engine: str = "native",
+    memory: int = DEFAULT_MEMORY,
+    tol: float = 1e-9,
+) -> FCIResult:
     """Full-CI energies (hartree, core_energy included) of the lowest matching states.
 
     Electron counts default to the file's; give ``alpha`` and ``beta``, or
@@ -90,15 +108,36 @@ def solve(ham: Hamiltonian, *, alpha: int | None = None, beta: int | None = None
         counts = {"n_electrons": alpha + beta}
         if sz_conserved(h1, eri, ham.orbitals.spin_layout):
             counts |= {"n_alpha": alpha, "n_beta": beta}
-    return solve_arrays(ham.basis, h1, eri, ham.core_energy, **counts, spin_layout=ham.orbitals.spin_layout,
-                        irreps=irreps, nroots=roots, two_s=two_s, irrep=irrep, root=root, engine=engine,
-                        memory=memory, tol=tol)
+    return solve_arrays(
+        ham.basis,
+        h1,
+        eri,
+        ham.core_energy,
+        **counts,
+        spin_layout=ham.orbitals.spin_layout,
+        irreps=irreps,
+        nroots=roots,
+        two_s=two_s,
+        irrep=irrep,
+        root=root,
+        engine=engine,
+        memory=memory,
+        tol=tol,
+    )
 
 
-def solve_reference(ham: Hamiltonian, ref: Reference, *, engine: str = "native",
-                    memory: int = DEFAULT_MEMORY) -> FCIResult:
+def solve_reference(
+    ham: Hamiltonian, ref: Reference, *, engine: str = "native", memory: int = DEFAULT_MEMORY
+) -> FCIResult:
     """The state an ``fci`` reference describes: its electrons, 2S, irrep and root."""
     electrons = ham.electrons_of(ref)
-    return solve(ham, alpha=electrons.alpha, beta=electrons.beta, two_s=ref.two_s, irrep=ref.irrep,
-                 root=ref.root or 0, engine=engine, memory=memory)
-
+    return solve(
+        ham,
+        alpha=electrons.alpha,
+        beta=electrons.beta,
+        two_s=ref.two_s,
+        irrep=ref.irrep,
+        root=ref.root or 0,
+        engine=engine,
+        memory=memory,
+    )

@@ -114,7 +114,9 @@ def _exchange(slab, occ):
 def _check_indices(ham, alpha, beta):
     for spin, indices in (("alpha", alpha), ("beta", beta)):
         if len(indices) and (indices.min() < 0 or indices.max() >= ham.n):
-            raise FieldError(f"occupation.{spin}", f"orbital indices must lie in 0..{ham.n - 1}, got {indices.tolist()}")
+            raise FieldError(
+                f"occupation.{spin}", f"orbital indices must lie in 0..{ham.n - 1}, got {indices.tolist()}"
+            )
 
 
 def determinant_energy(ham: Hamiltonian, occupation) -> complex | float:
@@ -133,8 +135,10 @@ def determinant_energy(ham: Hamiltonian, occupation) -> complex | float:
     else:
         h_a, h_b = (h, h) if ham.basis == "restricted" else (h[0], h[1])
         value = 0.5 * (
-            np.sum(np.diag(h_a)[alpha]) + np.sum(np.diag(fock_a)[alpha])
-            + np.sum(np.diag(h_b)[beta]) + np.sum(np.diag(fock_b)[beta])
+            np.sum(np.diag(h_a)[alpha])
+            + np.sum(np.diag(fock_a)[alpha])
+            + np.sum(np.diag(h_b)[beta])
+            + np.sum(np.diag(fock_b)[beta])
         )
     value = ham.core_energy + value
     return complex(value) if np.iscomplexobj(value) else float(value)

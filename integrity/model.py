@@ -229,7 +229,10 @@ def shape_problems(
     if storage not in STORAGES:
         return
     if storage != "dense" and notation == "physicist":
-        yield "two_electron.storage", f"storage {storage!r} is defined for chemist notation only; physicist arrays are dense"
+        yield (
+            "two_electron.storage",
+            f"storage {storage!r} is defined for chemist notation only; physicist arrays are dense",
+        )
     if storage != "dense" and np.dtype(two_dtype).kind == "c":
         yield "two_electron.storage", f"storage {storage!r} is defined for real values only; complex arrays are dense"
     try:
@@ -286,13 +289,19 @@ def structure_problems(ham: Hamiltonian) -> Iterator[tuple[str, str]]:
         return
     if orb.basis == "spin-orbital":
         if orb.spin_layout not in SPIN_LAYOUTS:
-            yield "orbitals.spin_layout", f"spin-orbital files need spin_layout in {SPIN_LAYOUTS}, got {orb.spin_layout!r}"
+            yield (
+                "orbitals.spin_layout",
+                f"spin-orbital files need spin_layout in {SPIN_LAYOUTS}, got {orb.spin_layout!r}",
+            )
         if orb.count % 2:
             yield "orbitals.count", f"a spin-orbital basis needs an even number of spin orbitals, got {orb.count}"
     elif orb.spin_layout is not None:
         yield "orbitals.spin_layout", f"only spin-orbital files have a spin layout; basis is {orb.basis!r}"
     if orb.point_group is not None and orb.point_group not in POINT_GROUP_ORDER:
-        yield "orbitals.point_group", f"{orb.point_group!r} is not an abelian point group; expected one of {tuple(POINT_GROUP_ORDER)}"
+        yield (
+            "orbitals.point_group",
+            f"{orb.point_group!r} is not an abelian point group; expected one of {tuple(POINT_GROUP_ORDER)}",
+        )
     if orb.irreps is not None:
         yield from _irreps_problems(orb)
     if orb.canonical is not None and not isinstance(orb.canonical, bool):
@@ -317,8 +326,14 @@ def structure_problems(ham: Hamiltonian) -> Iterator[tuple[str, str]]:
             return
     two = ham.two_electron
     yield from shape_problems(
-        orb.basis, orb.count, two.storage, two.notation,
-        ham.one_electron.shape, ham.one_electron.dtype, two.array.shape, two.array.dtype,
+        orb.basis,
+        orb.count,
+        two.storage,
+        two.notation,
+        ham.one_electron.shape,
+        ham.one_electron.dtype,
+        two.array.shape,
+        two.array.dtype,
     )
     yield from _reference_problems(ham)
     yield from _provenance_problems(ham.provenance)
@@ -423,4 +438,3 @@ def _occupation_problems(ham, where, occupation) -> Iterator[tuple[str, str]]:
                 break
         if len(set(indices)) != len(indices):
             yield f"{where}.occupation.{spin}", f"an orbital is listed twice in {list(indices)}"
-

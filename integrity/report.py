@@ -34,8 +34,9 @@ def render_text(reports, strict: bool = False) -> str:
         lines.append(f"{report.path}: FAIL ({len(shown)} of {len(counted)} checks)")
         for result in shown:
             where = f", at {result.where}" if result.where else ""
-            lines.append(f"  {result.id}: {result.message} "
-                         f"[value {_figure(result.value)}, limit {_figure(result.limit)}{where}]")
+            lines.append(
+                f"  {result.id}: {result.message} [value {_figure(result.value)}, limit {_figure(result.limit)}{where}]"
+            )
         if not shown:
             lines.append("  the file could not be assembled into a Hamiltonian")
     return "\n".join(lines)

@@ -129,8 +129,7 @@ def _message(error: ValidationError) -> str:
     if error.validator == "const":
         return f"expected {value!r}, got {shown}"
     if error.validator in ("minimum", "maximum", "exclusiveMinimum"):
-        words = {"minimum": "below the minimum", "maximum": "above the maximum",
-                 "exclusiveMinimum": "not above"}
+        words = {"minimum": "below the minimum", "maximum": "above the maximum", "exclusiveMinimum": "not above"}
         return f"{shown} is {words[error.validator]} {value}"
     if error.validator == "not" and isinstance(value, dict) and "required" in value:
         return f"must not have {value['required']} here"

@@ -33,9 +33,11 @@ def array_figures(array) -> dict:
 
 def _two_electron_figures(ham: Hamiltonian) -> dict:
     two = ham.two_electron
-    slabs = (slab for block in spin_blocks(two, ham.basis)
-             for _, slab in chemist_slabs(block, two.notation, two.storage, ham.n,
-                                          antisymmetrized=bool(two.antisymmetrized)))
+    slabs = (
+        slab
+        for block in spin_blocks(two, ham.basis)
+        for _, slab in chemist_slabs(block, two.notation, two.storage, ham.n, antisymmetrized=bool(two.antisymmetrized))
+    )
     norm, largest = _norm_and_max(slabs)
     return {"norm (dense)": norm, "max_abs": largest}
 
@@ -78,11 +80,19 @@ def summarize(ham: Hamiltonian) -> dict:
         "fingerprint": computed,
         "checksum": checksum,
         "references": [
-            {k: v for k, v in {
-                "label": r.label, "method": r.method, "energy": r.energy, "two_s": r.two_s,
-                "irrep": r.irrep, "root": r.root,
-                "electrons": None if r.electrons is None else f"{r.electrons.alpha},{r.electrons.beta}",
-            }.items() if v is not None}
+            {
+                k: v
+                for k, v in {
+                    "label": r.label,
+                    "method": r.method,
+                    "energy": r.energy,
+                    "two_s": r.two_s,
+                    "irrep": r.irrep,
+                    "root": r.root,
+                    "electrons": None if r.electrons is None else f"{r.electrons.alpha},{r.electrons.beta}",
+                }.items()
+                if v is not None
+            }
             for r in ham.references
         ],
     }
@@ -115,8 +125,11 @@ def render_summary(path: str, summary: dict) -> str:
     row("one-electron", f"{tuple(one['shape'])} {one['dtype']}, norm {one['norm']:.6g}, max |h| {one['max_abs']:.6g}")
     two = summary["two_electron"]
     flags = f"{two['notation']} {two['storage']}" + (", antisymmetrized" if two["antisymmetrized"] else "")
-    row("two-electron", f"{flags} {tuple(two['shape'])} {two['dtype']}, {two['interaction']}, "
-        f"norm {two['norm (dense)']:.6g}, max |g| {two['max_abs']:.6g}")
+    row(
+        "two-electron",
+        f"{flags} {tuple(two['shape'])} {two['dtype']}, {two['interaction']}, "
+        f"norm {two['norm (dense)']:.6g}, max |g| {two['max_abs']:.6g}",
+    )
     row("fingerprint", f"{summary['fingerprint']} ({summary['checksum']})")
     if not summary["references"]:
         row("references", "none")

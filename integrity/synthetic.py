@@ -51,9 +51,17 @@ def random_hermitian(n: int, rng, complex_values: bool = False) -> np.ndarray:
     return 0.5 * (matrix + matrix.conj().T)
 
 
-def random_hamiltonian(basis: str, n: int, *, complex_values: bool = False, seed: int = 0,
-                       alpha: int | None = None, beta: int | None = None, points: int | None = None,
-                       core_energy: float = 0.5) -> Hamiltonian:
+def random_hamiltonian(
+    basis: str,
+    n: int,
+    *,
+    complex_values: bool = False,
+    seed: int = 0,
+    alpha: int | None = None,
+    beta: int | None = None,
+    points: int | None = None,
+    core_energy: float = 0.5,
+) -> Hamiltonian:
     """A restricted or unrestricted Hamiltonian with exact symmetry and a PSD pair matrix.
 
     ``n`` spatial orbitals; electron counts default to half filling.
@@ -76,5 +84,6 @@ def random_hamiltonian(basis: str, n: int, *, complex_values: bool = False, seed
         raise ValueError(f"random_hamiltonian builds restricted or unrestricted files, not {basis!r}")
     if not complex_values:
         h1, eri = h1.real.copy(), eri.real.copy()
-    return Hamiltonian(Orbitals(n, basis), Electrons(alpha, beta), core_energy, h1,
-                       TwoElectron(eri, notation="chemist"))
+    return Hamiltonian(
+        Orbitals(n, basis), Electrons(alpha, beta), core_energy, h1, TwoElectron(eri, notation="chemist")
+    )

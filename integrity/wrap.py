@@ -34,8 +34,20 @@ def read_npz(path) -> dict[str, np.ndarray]:
     return arrays
 
 
-def wrap_arrays(path, *, notation, alpha, beta, basis, spin_layout=None, storage=None,
-                core_energy=None, interaction=None, antisymmetrized=None, title=None) -> Hamiltonian:
+def wrap_arrays(
+    path,
+    *,
+    notation,
+    alpha,
+    beta,
+    basis,
+    spin_layout=None,
+    storage=None,
+    core_energy=None,
+    interaction=None,
+    antisymmetrized=None,
+    title=None,
+) -> Hamiltonian:
     """A Hamiltonian from an .npz of plain arrays and explicitly stated conventions.
 
     The core energy must come from the archive or the caller: a missing
@@ -45,8 +57,9 @@ def wrap_arrays(path, *, notation, alpha, beta, basis, spin_layout=None, storage
     if "core_energy" in arrays and core_energy is not None:
         raise FieldError("core_energy", "given both in the archive and on the command line; give it once", str(path))
     if "core_energy" not in arrays and core_energy is None:
-        raise FieldError("core_energy", "not in the archive; state it with --core-energy (0 if there is none)",
-                         str(path))
+        raise FieldError(
+            "core_energy", "not in the archive; state it with --core-energy (0 if there is none)", str(path)
+        )
     ecore = float(arrays["core_energy"]) if "core_energy" in arrays else float(core_energy)
     one = np.asarray(arrays["one_electron"])
     two = np.asarray(arrays["two_electron"])
@@ -64,8 +77,9 @@ def wrap_arrays(path, *, notation, alpha, beta, basis, spin_layout=None, storage
             electrons=Electrons(alpha, beta),
             core_energy=ecore,
             one_electron=one,
-            two_electron=TwoElectron(two, notation=notation, storage=storage, interaction=interaction,
-                                     antisymmetrized=antisymmetrized),
+            two_electron=TwoElectron(
+                two, notation=notation, storage=storage, interaction=interaction, antisymmetrized=antisymmetrized
+            ),
             title=title,
             provenance={"producer": "integrity wrap", "source": str(path)},
         )

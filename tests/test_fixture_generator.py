@@ -17,14 +17,14 @@ FIXTURES = Path(__file__).resolve().parents[1] / "fixtures"
 @pytest.fixture(scope="module")
 def regenerated(tmp_path_factory):
     out = tmp_path_factory.mktemp("fixtures")
-    subprocess.run([sys.executable, str(FIXTURES / "generate.py"), "--out", str(out)], check=True,
-                   capture_output=True)
+    subprocess.run([sys.executable, str(FIXTURES / "generate.py"), "--out", str(out)], check=True, capture_output=True)
     return out
 
 
 def test_the_generator_writes_the_same_manifest_and_readme(regenerated):
     assert json.loads((regenerated / "manifest.json").read_text()) == json.loads(
-        (FIXTURES / "manifest.json").read_text())
+        (FIXTURES / "manifest.json").read_text()
+    )
     assert (regenerated / "README.md").read_text() == (FIXTURES / "README.md").read_text()
 
 
@@ -32,8 +32,9 @@ def _readable(entry):
     return entry["fails"] != ["(unreadable)"]
 
 
-@pytest.mark.parametrize("entry", json.loads((FIXTURES / "manifest.json").read_text())["files"],
-                         ids=lambda e: e["file"])
+@pytest.mark.parametrize(
+    "entry", json.loads((FIXTURES / "manifest.json").read_text())["files"], ids=lambda e: e["file"]
+)
 def test_each_regenerated_file_has_the_committed_fingerprint(regenerated, entry):
     committed, fresh = FIXTURES / entry["file"], regenerated / entry["file"]
     if not _readable(entry):

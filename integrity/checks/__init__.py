@@ -19,9 +19,20 @@ from . import energies, fullci, irreps, positivity, structure, symmetry  # noqa:
 from .registry import REGISTRY, Context, Result, run_one
 
 ORDER = (
-    "schema", "arrays.shape", "arrays.finite", "one_electron.hermitian", "two_electron.symmetry",
-    "two_electron.notation", "two_electron.positive", "electrons.count", "orbitals.irreps",
-    "core_energy.parts", "checksum", "energy.hf", "orbitals.canonical", "energy.fci",
+    "schema",
+    "arrays.shape",
+    "arrays.finite",
+    "one_electron.hermitian",
+    "two_electron.symmetry",
+    "two_electron.notation",
+    "two_electron.positive",
+    "electrons.count",
+    "orbitals.irreps",
+    "core_energy.parts",
+    "checksum",
+    "energy.hf",
+    "orbitals.canonical",
+    "energy.fci",
 )
 
 
@@ -45,8 +56,12 @@ class FileReport:
         return [r for r in self.results if r.status == "fail"]
 
     def as_dict(self) -> dict:
-        out = {"path": self.path, "status": self.status, "fingerprint": self.fingerprint,
-               "checks": [r.as_dict() for r in self.results]}
+        out = {
+            "path": self.path,
+            "status": self.status,
+            "fingerprint": self.fingerprint,
+            "checks": [r.as_dict() for r in self.results],
+        }
         if self.error is not None:
             out["error"] = self.error
         return out
@@ -62,8 +77,17 @@ def resolve_selection(select=None, skip=None, tolerances=None) -> list[str]:
     return [i for i in chosen if i not in (skip or ())]
 
 
-def check(source, *, select=None, skip=None, tolerances=None, memory: int = DEFAULT_MEMORY,
-          engine: str = "native", strict: bool = False, fingerprint: bool = True) -> FileReport:
+def check(
+    source,
+    *,
+    select=None,
+    skip=None,
+    tolerances=None,
+    memory: int = DEFAULT_MEMORY,
+    engine: str = "native",
+    strict: bool = False,
+    fingerprint: bool = True,
+) -> FileReport:
     """Run the checks on a path or a Hamiltonian.
 
     ``tolerances`` maps check id to limit; ``memory`` is the budget in bytes
@@ -84,8 +108,11 @@ def check(source, *, select=None, skip=None, tolerances=None, memory: int = DEFA
     with document:
         missing = [key for key in ("one_electron", "two_electron") if key not in document.tree]
         if missing:
-            return FileReport(path, "error", error=f"{path}: {document.locate((missing[0],))}: missing dataset; "
-                              "nothing to check without it")
+            return FileReport(
+                path,
+                "error",
+                error=f"{path}: {document.locate((missing[0],))}: missing dataset; nothing to check without it",
+            )
         ham, build_error = None, None
         try:
             ham = hamiltonian_from_content(document.content)
@@ -100,8 +127,9 @@ def _run(ham, document, build_error, path, ids, tolerances, memory, engine, stri
     lazy = document is not None and ham is not None and not _in_memory(ham)
     # on disk: boxes and slabs are fixed fractions of the budget (in memory: cache-sized boxes)
     box_bytes = min(max(2**16, memory // 32), 64 * 2**20) if lazy else 2**20
-    base = Context(limit=None, memory=memory, engine=engine, document=document, box_bytes=box_bytes,
-                   build_error=build_error)
+    base = Context(
+        limit=None, memory=memory, engine=engine, document=document, box_bytes=box_bytes, build_error=build_error
+    )
     results = []
     finite = None
     with slab_budget(max(2**16, memory // 16)):
@@ -153,8 +181,9 @@ def find_files(paths) -> list[str]:
     for path in paths:
         path = Path(path)
         if path.is_dir():
-            found += sorted(str(p) for p in path.rglob("*") if p.suffix.lower() in (".h5", ".hdf5", ".json")
-                            and p.is_file())
+            found += sorted(
+                str(p) for p in path.rglob("*") if p.suffix.lower() in (".h5", ".hdf5", ".json") and p.is_file()
+            )
         else:
             found.append(str(path))
     return found

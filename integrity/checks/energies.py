@@ -20,14 +20,17 @@ def _layout_hint(ham, ref, expected, tolerance):
     from ..model import Orbitals
 
     other = "blocked" if ham.orbitals.spin_layout == "interleaved" else "interleaved"
-    orbitals = Orbitals(ham.n, "spin-orbital", other, ham.orbitals.point_group, ham.orbitals.irreps,
-                        ham.orbitals.canonical)
+    orbitals = Orbitals(
+        ham.n, "spin-orbital", other, ham.orbitals.point_group, ham.orbitals.irreps, ham.orbitals.canonical
+    )
     relabelled = ham.replace(orbitals=orbitals)
     electrons = ham.electrons_of(ref)
     occupation = default_occupation(relabelled, electrons.alpha, electrons.beta)
     if abs(np.real(determinant_energy(relabelled, occupation)) - expected) <= tolerance:
-        return [f"read as {other}, the lowest alpha and beta spin orbitals give the reference energy: the spin "
-                f"orbitals are probably stored {other}"]
+        return [
+            f"read as {other}, the lowest alpha and beta spin orbitals give the reference energy: the spin "
+            f"orbitals are probably stored {other}"
+        ]
     return []
 
 
@@ -58,8 +61,14 @@ def check_hf(ham, ctx) -> Result:
         computed = float(np.real(energy))
         difference = ref.energy - computed
         tolerance = _tolerance(ref, ctx)
-        row = {"label": ref.label, "computed": computed, "expected": ref.energy, "difference": difference,
-               "tolerance": tolerance, "occupation": [list(occupation[0]), list(occupation[1])]}
+        row = {
+            "label": ref.label,
+            "computed": computed,
+            "expected": ref.energy,
+            "difference": difference,
+            "tolerance": tolerance,
+            "occupation": [list(occupation[0]), list(occupation[1])],
+        }
         if np.iscomplexobj(energy):
             row["imaginary"] = float(np.imag(energy))
         rows.append(row)
@@ -68,21 +77,32 @@ def check_hf(ham, ctx) -> Result:
     failed = abs(worst["difference"]) > worst["tolerance"]
     details = {"references": rows}
     if not failed:
-        return Result("energy.hf", "pass",
-                      f"{len(rows)} hf reference(s) reproduced; largest difference {abs(worst['difference']):.3g}",
-                      value=abs(worst["difference"]), limit=worst["tolerance"], details=details)
+        return Result(
+            "energy.hf",
+            "pass",
+            f"{len(rows)} hf reference(s) reproduced; largest difference {abs(worst['difference']):.3g}",
+            value=abs(worst["difference"]),
+            limit=worst["tolerance"],
+            details=details,
+        )
     ref = worst["ref"]
     hints = constant_hints(ham, worst["difference"], worst["tolerance"])
     hints += _swapped_hint(ham, ref, ref.energy, worst["tolerance"])
     hints += _layout_hint(ham, ref, ref.energy, worst["tolerance"])
-    cause = "; ".join(hints) or ("the integrals, the occupation or the reference energy disagree "
-                                 "(see two_electron.notation and electrons.count)")
-    return Result("energy.hf", "fail",
-                  f"reference {ref.label!r} says {ref.energy:.10f} but the determinant gives "
-                  f"{worst['computed']:.10f} (difference {worst['difference']:.3g}, limit {worst['tolerance']:.3g}); "
-                  f"{cause}",
-                  value=abs(worst["difference"]), limit=worst["tolerance"], where=f"references[{ref.label}]",
-                  details=details)
+    cause = "; ".join(hints) or (
+        "the integrals, the occupation or the reference energy disagree (see two_electron.notation and electrons.count)"
+    )
+    return Result(
+        "energy.hf",
+        "fail",
+        f"reference {ref.label!r} says {ref.energy:.10f} but the determinant gives "
+        f"{worst['computed']:.10f} (difference {worst['difference']:.3g}, limit {worst['tolerance']:.3g}); "
+        f"{cause}",
+        value=abs(worst["difference"]),
+        limit=worst["tolerance"],
+        where=f"references[{ref.label}]",
+        details=details,
+    )
 
 
 def brillouin_blocks(ham, occupation):
@@ -99,9 +119,11 @@ def brillouin_blocks(ham, occupation):
         doubly = np.intersect1d(alpha, beta)
         singly = np.setdiff1d(np.union1d(alpha, beta), doubly)
         empty = np.setdiff1d(np.arange(n), np.union1d(alpha, beta))
-        return [("(Fa+Fb) doubly-virtual", (fock_a + fock_b)[np.ix_(doubly, empty)], doubly, empty),
-                ("Fb doubly-singly", fock_b[np.ix_(doubly, singly)], doubly, singly),
-                ("Fa singly-virtual", fock_a[np.ix_(singly, empty)], singly, empty)]
+        return [
+            ("(Fa+Fb) doubly-virtual", (fock_a + fock_b)[np.ix_(doubly, empty)], doubly, empty),
+            ("Fb doubly-singly", fock_b[np.ix_(doubly, singly)], doubly, singly),
+            ("Fa singly-virtual", fock_a[np.ix_(singly, empty)], singly, empty),
+        ]
     if ham.basis == "spin-orbital":
         occupied = np.union1d(alpha, beta)
         virtual = np.setdiff1d(np.arange(n), occupied)
@@ -126,9 +148,15 @@ def check_canonical(ham, ctx) -> Result:
             i, a = np.unravel_index(int(np.argmax(np.abs(block))), block.shape)
             worst, where = float(np.abs(block).max()), f"{name} ({rows[i]}, {cols[a]})"
     if worst > ctx.limit:
-        return Result("orbitals.canonical", "fail",
-                      f"the Brillouin condition fails: |F| = {worst:.3g} at {where} (limit {ctx.limit:.3g}); "
-                      "the orbitals are not the SCF's for this occupation, or the integrals are altered",
-                      value=worst, limit=ctx.limit, where=where)
-    return Result("orbitals.canonical", "pass", f"Brillouin holds: max |F_ia| = {worst:.3g}",
-                  value=worst, limit=ctx.limit)
+        return Result(
+            "orbitals.canonical",
+            "fail",
+            f"the Brillouin condition fails: |F| = {worst:.3g} at {where} (limit {ctx.limit:.3g}); "
+            "the orbitals are not the SCF's for this occupation, or the integrals are altered",
+            value=worst,
+            limit=ctx.limit,
+            where=where,
+        )
+    return Result(
+        "orbitals.canonical", "pass", f"Brillouin holds: max |F_ia| = {worst:.3g}", value=worst, limit=ctx.limit
+    )

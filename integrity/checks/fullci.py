@@ -28,8 +28,10 @@ def _other_states_hint(ham, ref, expected, tolerance, memory) -> list[str]:
         if abs(state.energy - expected) <= tolerance:
             spin = f"2S = {state.two_s}" if state.two_s is not None else "unknown 2S"
             irrep = f", irrep {state.irrep}" if state.irrep is not None else ""
-            return [f"the expected energy is that of state {index} of this sector ({spin}{irrep}): the reference "
-                    "may describe another spin state or root than it says"]
+            return [
+                f"the expected energy is that of state {index} of this sector ({spin}{irrep}): the reference "
+                "may describe another spin state or root than it says"
+            ]
     return []
 
 
@@ -43,8 +45,10 @@ def _swapped_hint(ham, ref, expected, tolerance, memory) -> list[str]:
     except (BudgetError, FieldError, UnsupportedError):
         return []
     if abs(swapped.roots[0].energy - expected) <= tolerance:
-        return [f"with {electrons.beta} alpha and {electrons.alpha} beta electrons full CI gives the reference "
-                "energy: the alpha and beta counts are probably swapped"]
+        return [
+            f"with {electrons.beta} alpha and {electrons.alpha} beta electrons full CI gives the reference "
+            "energy: the alpha and beta counts are probably swapped"
+        ]
     return []
 
 
@@ -52,9 +56,16 @@ def _solve_one(ham, ref, engine, ctx):
     result = solve_reference(ham, ref, engine=engine, memory=ctx.memory)
     state = result.roots[0]
     return {
-        "engine": engine, "energy": state.energy, "two_s": state.two_s, "s_squared": state.s_squared,
-        "irrep": state.irrep, "iterations": result.iterations, "residual": state.residual_norm,
-        "converged": state.converged, "determinants": result.determinants, "notes": list(result.notes),
+        "engine": engine,
+        "energy": state.energy,
+        "two_s": state.two_s,
+        "s_squared": state.s_squared,
+        "irrep": state.irrep,
+        "iterations": result.iterations,
+        "residual": state.residual_norm,
+        "converged": state.converged,
+        "determinants": result.determinants,
+        "notes": list(result.notes),
     }
 
 
@@ -72,17 +83,25 @@ def check_fci(ham, ctx) -> Result:
         except BudgetError as err:
             size = f"{err.size} determinants, " if err.size else ""
             needed = f"an estimated {format_bytes(err.needed)}" if err.needed else "more memory"
-            return skipped("energy.fci", f"reference {ref.label!r}: {size}{needed} against the budget of "
-                           f"{format_bytes(err.budget or ctx.memory)} (--memory): {err.reason}",
-                           details={"determinants": err.size, "estimate": err.needed, "budget": err.budget})
+            return skipped(
+                "energy.fci",
+                f"reference {ref.label!r}: {size}{needed} against the budget of "
+                f"{format_bytes(err.budget or ctx.memory)} (--memory): {err.reason}",
+                details={"determinants": err.size, "estimate": err.needed, "budget": err.budget},
+            )
         except UnsupportedError as err:
             return skipped("energy.fci", f"reference {ref.label!r}: {err.reason}")
         except FieldError as err:
             return skipped("energy.fci", f"reference {ref.label!r} cannot be solved: {err}")
         first = solved[0]
         difference = ref.energy - first["energy"]
-        row = {"label": ref.label, "expected": ref.energy, "difference": difference, "tolerance": tolerance,
-               "solutions": solved}
+        row = {
+            "label": ref.label,
+            "expected": ref.energy,
+            "difference": difference,
+            "tolerance": tolerance,
+            "solutions": solved,
+        }
         rows.append(row)
         if abs(difference) > tolerance:
             problems.append((abs(difference) - tolerance, ref, first, difference, tolerance, "mismatch"))
@@ -95,23 +114,41 @@ def check_fci(ham, ctx) -> Result:
     worst_value = max(abs(r["difference"]) for r in rows)
     if not problems:
         engines = " and ".join(_engines(ctx))
-        return Result("energy.fci", "pass", f"{len(rows)} fci reference(s) reproduced by {engines}; largest "
-                      f"difference {worst_value:.3g}", value=worst_value, limit=rows[0]["tolerance"],
-                      details=details)
+        return Result(
+            "energy.fci",
+            "pass",
+            f"{len(rows)} fci reference(s) reproduced by {engines}; largest difference {worst_value:.3g}",
+            value=worst_value,
+            limit=rows[0]["tolerance"],
+            details=details,
+        )
     _, ref, first, difference, tolerance, kind = max(problems, key=lambda item: item[0])
     found = f"2S = {first['two_s']}" if first["two_s"] is not None else "2S not determinable"
     if kind == "engines":
-        message = (f"reference {ref.label!r}: the engines disagree by {abs(difference):.3g} "
-                   f"(native {first['energy']:.10f}); one of them is wrong for this Hamiltonian")
+        message = (
+            f"reference {ref.label!r}: the engines disagree by {abs(difference):.3g} "
+            f"(native {first['energy']:.10f}); one of them is wrong for this Hamiltonian"
+        )
     elif kind == "spin":
         message = f"reference {ref.label!r}: the state found has {found}, not 2S = {ref.two_s}"
     else:
-        hints = (constant_hints(ham, difference, tolerance)
-                 or _swapped_hint(ham, ref, ref.energy, tolerance, ctx.memory)
-                 or _other_states_hint(ham, ref, ref.energy, tolerance, ctx.memory))
+        hints = (
+            constant_hints(ham, difference, tolerance)
+            or _swapped_hint(ham, ref, ref.energy, tolerance, ctx.memory)
+            or _other_states_hint(ham, ref, ref.energy, tolerance, ctx.memory)
+        )
         notes = [note for note in first["notes"] if "not conserved" in note]
         cause = "; ".join(hints + notes) or "the integrals, the electron counts or the reference disagree"
-        message = (f"reference {ref.label!r} says {ref.energy:.10f} but full CI ({first['engine']}, {found}) "
-                   f"gives {first['energy']:.10f} (difference {difference:.3g}, limit {tolerance:.3g}); {cause}")
-    return Result("energy.fci", "fail", message, value=abs(difference), limit=tolerance,
-                  where=f"references[{ref.label}]", details=details)
+        message = (
+            f"reference {ref.label!r} says {ref.energy:.10f} but full CI ({first['engine']}, {found}) "
+            f"gives {first['energy']:.10f} (difference {difference:.3g}, limit {tolerance:.3g}); {cause}"
+        )
+    return Result(
+        "energy.fci",
+        "fail",
+        message,
+        value=abs(difference),
+        limit=tolerance,
+        where=f"references[{ref.label}]",
+        details=details,
+    )

@@ -27,10 +27,16 @@ def _spin_partner_mismatch(ham, g) -> Result | None:
     other = "blocked" if layout == "interleaved" else "interleaved"
     hint = f"; the spin orbitals may be stored {other}" if _pairs_agree(g, spatial, other) else ""
     where = f"orbitals.irreps[{int(alpha[p])}], [{int(beta[p])}]"
-    return Result("orbitals.irreps", "fail",
-                  f"{differ.size} spatial orbital(s) have alpha and beta spin orbitals of different irreps in the "
-                  f"{layout} layout: spatial orbital {p} is spin orbitals {int(alpha[p])} (irrep {g[alpha[p]]}) and "
-                  f"{int(beta[p])} (irrep {g[beta[p]]}){hint}", value=float(differ.size), limit=0.0, where=where)
+    return Result(
+        "orbitals.irreps",
+        "fail",
+        f"{differ.size} spatial orbital(s) have alpha and beta spin orbitals of different irreps in the "
+        f"{layout} layout: spatial orbital {p} is spin orbitals {int(alpha[p])} (irrep {g[alpha[p]]}) and "
+        f"{int(beta[p])} (irrep {g[beta[p]]}){hint}",
+        value=float(differ.size),
+        limit=0.0,
+        where=where,
+    )
 
 
 def _pairs_agree(g, spatial, layout) -> bool:
@@ -43,8 +49,9 @@ def _stored_slabs(ham):
     two = ham.two_electron
     labels = ("aa ", "ab ", "bb ") if ham.basis == "unrestricted" else ("",)
     for label, block in zip(labels, spin_blocks(two, ham.basis), strict=True):
-        for p0, slab in chemist_slabs(block, two.notation, two.storage, ham.n,
-                                      antisymmetrized=bool(two.antisymmetrized)):
+        for p0, slab in chemist_slabs(
+            block, two.notation, two.storage, ham.n, antisymmetrized=bool(two.antisymmetrized)
+        ):
             yield label, p0, slab
 
 
@@ -62,7 +69,7 @@ def check_irreps(ham, ctx) -> Result:
     pair = g[:, None] ^ g[None, :]
     worst, where, count = 0.0, None, 0
     h = np.asarray(ham.one_electron)
-    for label, block in ([("alpha ", h[0]), ("beta ", h[1])] if ham.basis == "unrestricted" else [("", h)]):
+    for label, block in [("alpha ", h[0]), ("beta ", h[1])] if ham.basis == "unrestricted" else [("", h)]:
         forbidden = np.abs(np.where(pair != 0, block, 0))
         count += int(np.count_nonzero(forbidden > ctx.limit))
         if forbidden.max() > worst:
@@ -80,9 +87,20 @@ def check_irreps(ham, ctx) -> Result:
             worst, where = peak, f"two_electron {label}{index}"
     group = f" of {ham.orbitals.point_group}" if ham.orbitals.point_group else ""
     if worst > ctx.limit:
-        return Result("orbitals.irreps", "fail",
-                      f"{count} integral(s) that the irreps{group} force to zero are not zero; largest "
-                      f"{worst:.3g} at {where}; the irreps may be listed in another orbital order, or the "
-                      "orbitals are not symmetry-adapted", value=worst, limit=ctx.limit, where=where)
-    return Result("orbitals.irreps", "pass", f"every integral forbidden by the irreps{group} vanishes",
-                  value=worst, limit=ctx.limit)
+        return Result(
+            "orbitals.irreps",
+            "fail",
+            f"{count} integral(s) that the irreps{group} force to zero are not zero; largest "
+            f"{worst:.3g} at {where}; the irreps may be listed in another orbital order, or the "
+            "orbitals are not symmetry-adapted",
+            value=worst,
+            limit=ctx.limit,
+            where=where,
+        )
+    return Result(
+        "orbitals.irreps",
+        "pass",
+        f"every integral forbidden by the irreps{group} vanishes",
+        value=worst,
+        limit=ctx.limit,
+    )

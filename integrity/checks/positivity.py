@@ -36,8 +36,9 @@ class PairSpace:
         blocks = spin_blocks(two, ham.basis)
         # (row block, column block) per spin pair: same-spin blocks, and ab for the joint matrix
         self.spins = 2 if ham.basis == "unrestricted" else 1
-        self.blocks = {(0, 0): blocks[0]} if self.spins == 1 else {(0, 0): blocks[0], (0, 1): blocks[1],
-                                                                   (1, 1): blocks[2]}
+        self.blocks = (
+            {(0, 0): blocks[0]} if self.spins == 1 else {(0, 0): blocks[0], (0, 1): blocks[1], (1, 1): blocks[2]}
+        )
         n = self.n
         if self.complex:
             self.first, self.second = (a.ravel() for a in np.indices((n, n)))  # ordered pairs (p, q)
@@ -143,12 +144,16 @@ def schwarz_and_diagonals(ham):
     n = ham.n
     same = [blocks[0]] if ham.basis != "unrestricted" else [blocks[0], blocks[2]]
     g = [exchange_diagonal(b, two.notation, two.storage, n).real for b in same]
-    exchange_min, exchange_at = min((float(x.min()), (i, np.unravel_index(int(np.argmin(x)), x.shape)))
-                                    for i, x in enumerate(g))
+    exchange_min, exchange_at = min(
+        (float(x.min()), (i, np.unravel_index(int(np.argmin(x)), x.shape))) for i, x in enumerate(g)
+    )
     coulomb_min, coulomb_at = np.inf, None
     schwarz, schwarz_at = -np.inf, None
-    pairs = [(blocks[0], g[0], g[0], "")] if ham.basis != "unrestricted" else [
-        (blocks[0], g[0], g[0], "aa "), (blocks[1], g[0], g[1], "ab "), (blocks[2], g[1], g[1], "bb ")]
+    pairs = (
+        [(blocks[0], g[0], g[0], "")]
+        if ham.basis != "unrestricted"
+        else [(blocks[0], g[0], g[0], "aa "), (blocks[1], g[0], g[1], "ab "), (blocks[2], g[1], g[1], "bb ")]
+    )
     idx = np.arange(n)
     for block, g_left, g_right, label in pairs:
         bound_right = np.sqrt(np.clip(g_right.T, 0.0, None))  # sqrt((sr|rs)) at [r, s]
@@ -166,7 +171,7 @@ def schwarz_and_diagonals(ham):
             if low < coulomb_min:
                 i, q = np.unravel_index(int(np.argmin(coulomb)), coulomb.shape)
                 coulomb_min, coulomb_at = low, label + str((int(i + p0),) * 2 + (int(q),) * 2)
-    spin_label = ("" if ham.basis != "unrestricted" else ("aa " if exchange_at[0] == 0 else "bb "))
+    spin_label = "" if ham.basis != "unrestricted" else ("aa " if exchange_at[0] == 0 else "bb ")
     a, b = exchange_at[1]
     exchange_where = spin_label + str((int(a), int(b), int(b), int(a)))
     return schwarz, schwarz_at, coulomb_min, coulomb_at, exchange_min, exchange_where
@@ -177,8 +182,10 @@ def check_positive(ham, ctx) -> Result:
     """Smallest eigenvalue (or most negative pivot) of the pair matrix; Coulomb, exchange, Schwarz."""
     two = ham.two_electron
     if not two.is_coulomb:
-        return skipped("two_electron.positive", "interaction: model; a model interaction (e.g. an attractive "
-                       "Hubbard U) need not be positive semidefinite")
+        return skipped(
+            "two_electron.positive",
+            "interaction: model; a model interaction (e.g. an attractive Hubbard U) need not be positive semidefinite",
+        )
     if two.antisymmetrized:
         return skipped("two_electron.positive", "antisymmetrized <pq||rs> is not a Coulomb pair matrix")
     limit = ctx.limit
@@ -192,31 +199,60 @@ def check_positive(ham, ctx) -> Result:
         value, index, rank, complete = cholesky_certificate(space, limit, budget_rank)
         method = "most negative Cholesky pivot or residual minor"
     schwarz, schwarz_at, coulomb, coulomb_at, exchange, exchange_at = schwarz_and_diagonals(ham)
-    details = {"method": method, "pairs": space.size, "schwarz_excess": schwarz, "coulomb_min": coulomb,
-               "exchange_min": exchange}
+    details = {
+        "method": method,
+        "pairs": space.size,
+        "schwarz_excess": schwarz,
+        "coulomb_min": coulomb,
+        "exchange_min": exchange,
+    }
     if rank is not None:
         details["cholesky_rank"] = rank
     faults = []
     if value < -limit:
-        faults.append((f"the pair matrix is not positive semidefinite: {method} {value:.3g} at {space.label(index)}",
-                       space.label(index)))
+        faults.append(
+            (
+                f"the pair matrix is not positive semidefinite: {method} {value:.3g} at {space.label(index)}",
+                space.label(index),
+            )
+        )
     if coulomb < -limit:
         faults.append((f"Coulomb integral (pp|qq) = {coulomb:.3g} < 0 at {coulomb_at}", coulomb_at))
     if exchange < -limit:
         faults.append((f"exchange integral (pq|qp) = {exchange:.3g} < 0 at {exchange_at}", exchange_at))
     if schwarz > limit:
-        faults.append((f"the Schwarz bound |(qp|rs)|^2 <= (qp|pq)(sr|rs) is exceeded by {schwarz:.3g} at "
-                       f"{schwarz_at}", schwarz_at))
+        faults.append(
+            (
+                f"the Schwarz bound |(qp|rs)|^2 <= (qp|pq)(sr|rs) is exceeded by {schwarz:.3g} at {schwarz_at}",
+                schwarz_at,
+            )
+        )
     if faults:
         text = "; ".join(f for f, _ in faults)
-        return Result("two_electron.positive", "fail",
-                      f"{text}; a Coulomb operator cannot do this: the array may be in the wrong notation, "
-                      "altered, or a model interaction (declare interaction: model)",
-                      value=value, limit=-limit, where=faults[0][1], details=details)
+        return Result(
+            "two_electron.positive",
+            "fail",
+            f"{text}; a Coulomb operator cannot do this: the array may be in the wrong notation, "
+            "altered, or a model interaction (declare interaction: model)",
+            value=value,
+            limit=-limit,
+            where=faults[0][1],
+            details=details,
+        )
     if not complete:
-        return skipped("two_electron.positive", f"pivoted Cholesky reached the memory budget at rank {rank} "
-                       f"of {space.size} pairs without finishing; raise --memory", value=value, limit=-limit,
-                       details=details)
-    return Result("two_electron.positive", "pass",
-                  f"positive semidefinite ({method} {value:.3g} over {space.size} pairs); Coulomb, exchange "
-                  "and Schwarz hold", value=value, limit=-limit, details=details)
+        return skipped(
+            "two_electron.positive",
+            f"pivoted Cholesky reached the memory budget at rank {rank} "
+            f"of {space.size} pairs without finishing; raise --memory",
+            value=value,
+            limit=-limit,
+            details=details,
+        )
+    return Result(
+        "two_electron.positive",
+        "pass",
+        f"positive semidefinite ({method} {value:.3g} over {space.size} pairs); Coulomb, exchange and Schwarz hold",
+        value=value,
+        limit=-limit,
+        details=details,
+    )

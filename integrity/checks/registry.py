@@ -34,8 +34,14 @@ class Result:
     details: dict[str, Any] = field(default_factory=dict)
 
     def as_dict(self) -> dict[str, Any]:
-        out = {"id": self.id, "status": self.status, "value": self.value, "limit": self.limit,
-               "where": self.where, "message": self.message}
+        out = {
+            "id": self.id,
+            "status": self.status,
+            "value": self.value,
+            "limit": self.limit,
+            "where": self.where,
+            "message": self.message,
+        }
         if self.details:
             out["details"] = self.details
         return out
@@ -71,8 +77,7 @@ class CheckSpec:
 REGISTRY: dict[str, CheckSpec] = {}
 
 
-def register(check_id: str, *, limit: float | None = None, needs_hamiltonian: bool = True,
-             needs_finite: bool = False):
+def register(check_id: str, *, limit: float | None = None, needs_hamiltonian: bool = True, needs_finite: bool = False):
     """Register a check function under ``check_id`` with its default limit."""
 
     def decorate(function):
@@ -99,7 +104,8 @@ def run_one(spec: CheckSpec, ham, ctx: Context) -> Result:
     except Exception as err:  # a check must never stop the others
         frame = traceback.extract_tb(err.__traceback__)[-1]
         return Result(
-            spec.id, "fail",
+            spec.id,
+            "fail",
             f"the check itself failed: {type(err).__name__}: {err} (at {frame.filename.split('/')[-1]}:{frame.lineno})",
         )
     return result

@@ -52,12 +52,15 @@ PAIR_SWAP = Relation("(pq|rs) = (rs|pq)", (2, 3, 0, 1))
 CHEMIST_REAL = (BRA_SWAP, PAIR_SWAP)
 CHEMIST_COMPLEX = (PAIR_SWAP, Relation("(pq|rs) = (qp|sr)*", (1, 0, 3, 2), conjugate=True))
 PHYSICIST_REAL = (Relation("<pq|rs> = <rq|ps>", (2, 1, 0, 3)), Relation("<pq|rs> = <qp|sr>", (1, 0, 3, 2)))
-PHYSICIST_COMPLEX = (Relation("<pq|rs> = <qp|sr>", (1, 0, 3, 2)),
-                     Relation("<pq|rs> = <rs|pq>*", (2, 3, 0, 1), conjugate=True))
-ANTISYMMETRIZED_REAL = (Relation("<pq||rs> = -<qp||rs>", (1, 0, 2, 3), sign=-1),
-                        Relation("<pq||rs> = <rs||pq>", (2, 3, 0, 1)))
-ANTISYMMETRIZED_COMPLEX = (ANTISYMMETRIZED_REAL[0],
-                           Relation("<pq||rs> = <rs||pq>*", (2, 3, 0, 1), conjugate=True))
+PHYSICIST_COMPLEX = (
+    Relation("<pq|rs> = <qp|sr>", (1, 0, 3, 2)),
+    Relation("<pq|rs> = <rs|pq>*", (2, 3, 0, 1), conjugate=True),
+)
+ANTISYMMETRIZED_REAL = (
+    Relation("<pq||rs> = -<qp||rs>", (1, 0, 2, 3), sign=-1),
+    Relation("<pq||rs> = <rs||pq>", (2, 3, 0, 1)),
+)
+ANTISYMMETRIZED_COMPLEX = (ANTISYMMETRIZED_REAL[0], Relation("<pq||rs> = <rs||pq>*", (2, 3, 0, 1), conjugate=True))
 MIXED_SPIN_CHEMIST_REAL = (BRA_SWAP, KET_SWAP)
 MIXED_SPIN_CHEMIST_COMPLEX = (CHEMIST_COMPLEX[1],)
 MIXED_SPIN_PHYSICIST_REAL = (PHYSICIST_REAL[0], Relation("<pq|rs> = <ps|rq>", (0, 3, 2, 1)))
@@ -65,8 +68,9 @@ MIXED_SPIN_PHYSICIST_COMPLEX = (Relation("<pq|rs> = <rs|pq>*", (2, 3, 0, 1), con
 PAIR_MATRIX = (Relation("(pq|rs) = (rs|pq)", (1, 0)),)
 
 
-def relations_for(notation: str, is_complex: bool, antisymmetrized: bool = False,
-                  mixed_spin: bool = False) -> tuple[Relation, ...]:
+def relations_for(
+    notation: str, is_complex: bool, antisymmetrized: bool = False, mixed_spin: bool = False
+) -> tuple[Relation, ...]:
     """The generating relations of the group a dense array must obey.
 
     >>> [r.text for r in relations_for("chemist", is_complex=True)]
@@ -186,6 +190,7 @@ def odd_one_out(array, relations, first, second):
     When one element was altered, the other members of its orbit still agree,
     so the altered one stands out.
     """
+
     def spread(index):
         members = orbit(index, relations)
         values = np.array([s * (np.conj(array[m]) if c else array[m]) for m, s, c in members])

@@ -35,11 +35,23 @@ def check_schema(ham, ctx) -> Result:
     problems = schema_problems(tree, entry)
     build_error = getattr(ctx, "build_error", None)
     if problems:
-        return Result("schema", "fail", f"{len(problems)} schema problem(s): {_listing(problems, locate)}",
-                      value=float(len(problems)), limit=0.0, where=locate(problems[0].path))
+        return Result(
+            "schema",
+            "fail",
+            f"{len(problems)} schema problem(s): {_listing(problems, locate)}",
+            value=float(len(problems)),
+            limit=0.0,
+            where=locate(problems[0].path),
+        )
     if build_error is not None and not _is_shape_error(build_error):
-        return Result("schema", "fail", f"the metadata is inconsistent: {build_error}",
-                      value=1.0, limit=0.0, where=build_error.field)
+        return Result(
+            "schema",
+            "fail",
+            f"the metadata is inconsistent: {build_error}",
+            value=1.0,
+            limit=0.0,
+            where=build_error.field,
+        )
     return Result("schema", "pass", f"the metadata follows the schema ({entry})", value=0.0, limit=0.0)
 
 
@@ -70,8 +82,13 @@ def _json_length_problems(doc, declared) -> list[tuple[str, str]]:
         for part in ("data", "real", "imag"):
             values = info["node"].get(part)
             if isinstance(values, list) and len(values) != expected:
-                found.append((f"{key}.{part}", f"shape {list(info['shape'])} needs {expected} values, "
-                              f"the list holds {len(values)} (a truncated or damaged array)"))
+                found.append(
+                    (
+                        f"{key}.{part}",
+                        f"shape {list(info['shape'])} needs {expected} values, "
+                        f"the list holds {len(values)} (a truncated or damaged array)",
+                    )
+                )
     return found
 
 
@@ -88,16 +105,35 @@ def check_shapes(ham, ctx) -> Result:
         if declared is None or not isinstance(count, int) or basis is None:
             return skipped("arrays.shape", "the file does not state orbitals.count, basis and both array shapes")
         one, two = declared["one_electron"], declared["two_electron"]
-        problems = list(shape_problems(basis, count, two_node.get("storage"), two_node.get("notation"),
-                                       one["shape"], _dtype(one["dtype"]), two["shape"], _dtype(two["dtype"])))
+        problems = list(
+            shape_problems(
+                basis,
+                count,
+                two_node.get("storage"),
+                two_node.get("notation"),
+                one["shape"],
+                _dtype(one["dtype"]),
+                two["shape"],
+                _dtype(two["dtype"]),
+            )
+        )
         if doc.container == "json":
             problems += _json_length_problems(doc, declared)
     else:
         count, basis = ham.n, ham.basis
         two_electron = ham.two_electron
-        problems = list(shape_problems(basis, count, two_electron.storage, two_electron.notation,
-                                       ham.one_electron.shape, ham.one_electron.dtype,
-                                       two_electron.array.shape, two_electron.array.dtype))
+        problems = list(
+            shape_problems(
+                basis,
+                count,
+                two_electron.storage,
+                two_electron.notation,
+                ham.one_electron.shape,
+                ham.one_electron.dtype,
+                two_electron.array.shape,
+                two_electron.array.dtype,
+            )
+        )
     if problems:
         text = "; ".join(f"{field}: {reason}" for field, reason in problems[:MAX_LISTED])
         return Result("arrays.shape", "fail", text, value=float(len(problems)), limit=0.0, where=problems[0][0])
@@ -128,10 +164,15 @@ def check_finite(ham, ctx) -> Result:
     if first is None and bad_scalars:
         first = bad_scalars[0][0]
     if total:
-        return Result("arrays.finite", "fail",
-                      f"{total} value(s) are NaN or infinite, first at {first}; the producer may have "
-                      "written an undefined integral or the file was damaged",
-                      value=float(total), limit=0.0, where=first)
+        return Result(
+            "arrays.finite",
+            "fail",
+            f"{total} value(s) are NaN or infinite, first at {first}; the producer may have "
+            "written an undefined integral or the file was damaged",
+            value=float(total),
+            limit=0.0,
+            where=first,
+        )
     return Result("arrays.finite", "pass", "every value is finite", value=0.0, limit=0.0)
 
 
@@ -173,31 +214,53 @@ def check_electrons(ham, ctx) -> Result:
         for spin in ("alpha", "beta"):
             count = getattr(electrons, spin)
             if count > per_spin:
-                problems.append((f"{where}.electrons.{spin}", f"{count} {spin} electrons do not fit {per_spin} orbitals"))
+                problems.append(
+                    (f"{where}.electrons.{spin}", f"{count} {spin} electrons do not fit {per_spin} orbitals")
+                )
         if ref.two_s is not None:
             unpaired_max = min(total, 2 * per_spin - total)
             if ref.two_s > unpaired_max:
-                problems.append((f"{where}.two_s", f"2S = {ref.two_s} is out of reach for {total} electrons in "
-                                 f"{per_spin} orbitals per spin (at most {unpaired_max})"))
+                problems.append(
+                    (
+                        f"{where}.two_s",
+                        f"2S = {ref.two_s} is out of reach for {total} electrons in "
+                        f"{per_spin} orbitals per spin (at most {unpaired_max})",
+                    )
+                )
             if (ref.two_s - total) % 2:
                 problems.append((f"{where}.two_s", f"2S = {ref.two_s} has the wrong parity for {total} electrons"))
             if abs(electrons.alpha - electrons.beta) > ref.two_s:
-                problems.append((f"{where}.two_s", f"2S = {ref.two_s} is below |alpha - beta| = "
-                                 f"{abs(electrons.alpha - electrons.beta)}; no such state has these counts"))
+                problems.append(
+                    (
+                        f"{where}.two_s",
+                        f"2S = {ref.two_s} is below |alpha - beta| = "
+                        f"{abs(electrons.alpha - electrons.beta)}; no such state has these counts",
+                    )
+                )
         if ref.occupation is not None:
             listed = (len(ref.occupation[0]), len(ref.occupation[1]))
             if listed != (electrons.alpha, electrons.beta):
                 hint = " (alpha and beta look swapped)" if listed == (electrons.beta, electrons.alpha) else ""
-                problems.append((f"{where}.occupation", f"lists {listed[0]} alpha and {listed[1]} beta orbitals "
-                                 f"for {electrons.alpha} alpha and {electrons.beta} beta electrons{hint}"))
+                problems.append(
+                    (
+                        f"{where}.occupation",
+                        f"lists {listed[0]} alpha and {listed[1]} beta orbitals "
+                        f"for {electrons.alpha} alpha and {electrons.beta} beta electrons{hint}",
+                    )
+                )
             if ham.basis == "spin-orbital":
                 problems += _spin_orbital_occupation_problems(ham, where, ref.occupation)
     if problems:
         text = "; ".join(f"{field}: {reason}" for field, reason in problems[:MAX_LISTED])
         return Result("electrons.count", "fail", text, value=float(len(problems)), limit=0.0, where=problems[0][0])
-    return Result("electrons.count", "pass",
-                  f"{ham.electrons.alpha} alpha and {ham.electrons.beta} beta electrons fit {per_spin} orbitals "
-                  "per spin; every reference is reachable", value=0.0, limit=0.0)
+    return Result(
+        "electrons.count",
+        "pass",
+        f"{ham.electrons.alpha} alpha and {ham.electrons.beta} beta electrons fit {per_spin} orbitals "
+        "per spin; every reference is reachable",
+        value=0.0,
+        limit=0.0,
+    )
 
 
 def _spin_orbital_occupation_problems(ham, where, occupation):
@@ -208,8 +271,12 @@ def _spin_orbital_occupation_problems(ham, where, occupation):
     for spin_value, (spin, indices) in enumerate(zip(("alpha", "beta"), occupation, strict=True)):
         wrong = [i for i in indices if spins[i] != spin_value]
         if wrong:
-            found.append((f"{where}.occupation.{spin}", f"spin orbitals {wrong} are not {spin} in the "
-                          f"{ham.orbitals.spin_layout} layout"))
+            found.append(
+                (
+                    f"{where}.occupation.{spin}",
+                    f"spin orbitals {wrong} are not {spin} in the {ham.orbitals.spin_layout} layout",
+                )
+            )
     return found
 
 
@@ -222,18 +289,29 @@ def check_core_parts(ham, ctx) -> Result:
     total = float(sum(parts.values()))
     difference = abs(total - ham.core_energy)
     if difference > ctx.limit:
-        hints = [f"core_energy equals {name} alone: the other parts are missing from it"
-                 for name, value in parts.items()
-                 if value != 0 and abs(value - ham.core_energy) <= ctx.limit and len(parts) > 1]
-        missing = [f"the difference equals {name}: that part is missing from core_energy"
-                   for name, value in parts.items() if abs(abs(value) - difference) <= ctx.limit and value != 0]
+        hints = [
+            f"core_energy equals {name} alone: the other parts are missing from it"
+            for name, value in parts.items()
+            if value != 0 and abs(value - ham.core_energy) <= ctx.limit and len(parts) > 1
+        ]
+        missing = [
+            f"the difference equals {name}: that part is missing from core_energy"
+            for name, value in parts.items()
+            if abs(abs(value) - difference) <= ctx.limit and value != 0
+        ]
         cause = "; ".join(hints + missing) or "a part is missing, or core_energy was edited alone"
-        return outcome("core_energy.parts", True,
-                       f"the parts add up to {total:.12g} but core_energy is {ham.core_energy:.12g} "
-                       f"(difference {difference:.3g}); {cause}", value=difference, limit=ctx.limit,
-                       where="core_energy")
-    return outcome("core_energy.parts", False, f"{len(parts)} part(s) add up to core_energy",
-                   value=difference, limit=ctx.limit)
+        return outcome(
+            "core_energy.parts",
+            True,
+            f"the parts add up to {total:.12g} but core_energy is {ham.core_energy:.12g} "
+            f"(difference {difference:.3g}); {cause}",
+            value=difference,
+            limit=ctx.limit,
+            where="core_energy",
+        )
+    return outcome(
+        "core_energy.parts", False, f"{len(parts)} part(s) add up to core_energy", value=difference, limit=ctx.limit
+    )
 
 
 @register("checksum")
@@ -243,11 +321,15 @@ def check_checksum(ham, ctx) -> Result:
         return skipped("checksum", "no checksum stored")
     computed = fingerprint(ham)
     if computed != ham.checksum:
-        return Result("checksum", "fail",
-                      f"stored {ham.checksum[:19]}... but the content gives {computed[:19]}...; the data or the "
-                      "identifying metadata changed after the checksum was written (an altered or truncated "
-                      "transfer, or an edit without a new fingerprint)",
-                      where="checksum", details={"stored": ham.checksum, "computed": computed})
+        return Result(
+            "checksum",
+            "fail",
+            f"stored {ham.checksum[:19]}... but the content gives {computed[:19]}...; the data or the "
+            "identifying metadata changed after the checksum was written (an altered or truncated "
+            "transfer, or an edit without a new fingerprint)",
+            where="checksum",
+            details={"stored": ham.checksum, "computed": computed},
+        )
     return Result("checksum", "pass", "the fingerprint matches the stored checksum", details={"computed": computed})
 
 
@@ -265,10 +347,18 @@ def check_hermitian(ham, ctx) -> Result:
             p, q = np.unravel_index(int(np.argmax(deviation)), deviation.shape)
             worst, where = peak, (f"{label} " if label else "") + f"({p}, {q})"
     if worst > ctx.limit:
-        cause = "the matrix may be stored transposed with complex values" if ham.is_complex else (
-            "an element was altered, or the matrix is not the one-electron Hamiltonian")
-        return outcome("one_electron.hermitian", True,
-                       f"h is not Hermitian: {broken} pair(s) differ by more than the limit, largest "
-                       f"{worst:.3g} at {where}; {cause}", value=worst, limit=ctx.limit, where=where)
+        cause = (
+            "the matrix may be stored transposed with complex values"
+            if ham.is_complex
+            else ("an element was altered, or the matrix is not the one-electron Hamiltonian")
+        )
+        return outcome(
+            "one_electron.hermitian",
+            True,
+            f"h is not Hermitian: {broken} pair(s) differ by more than the limit, largest "
+            f"{worst:.3g} at {where}; {cause}",
+            value=worst,
+            limit=ctx.limit,
+            where=where,
+        )
     return outcome("one_electron.hermitian", False, "h equals its conjugate transpose", value=worst, limit=ctx.limit)
-

@@ -65,8 +65,10 @@ def check_symmetry(ham, ctx) -> Result:
     """Largest deviation over the permutation group the notation and value type imply."""
     found = deviations(ham, ctx, ham.two_electron.notation)
     if not found:
-        return skipped("two_electron.symmetry", "unique storage holds one value per symmetry orbit: "
-                       "the relations hold by construction")
+        return skipped(
+            "two_electron.symmetry",
+            "unique storage holds one value per symmetry orbit: the relations hold by construction",
+        )
     label, worst = _worst(found)
     relations = sorted({dev.relation.text for _, dev in found})
     culprit, partner = worst.where, worst.partner
@@ -75,18 +77,43 @@ def check_symmetry(ham, ctx) -> Result:
         culprit = odd_one_out(block, group, worst.where, worst.partner)
         partner = worst.partner if culprit == worst.where else worst.where
     where = _index_text(ham, label, culprit)
-    details = {"relations": [{"block": lab or None, "relation": dev.relation.text, "max_abs": dev.max_abs,
-                              "count": dev.count, "where": _index_text(ham, lab, dev.where)} for lab, dev in found]}
+    details = {
+        "relations": [
+            {
+                "block": lab or None,
+                "relation": dev.relation.text,
+                "max_abs": dev.max_abs,
+                "count": dev.count,
+                "where": _index_text(ham, lab, dev.where),
+            }
+            for lab, dev in found
+        ]
+    }
     if worst.max_abs <= ctx.limit:
-        return Result("two_electron.symmetry", "pass",
-                      f"{len(relations)} generating relation(s) hold: {', '.join(relations)}",
-                      value=worst.max_abs, limit=ctx.limit, where=None, details=details)
+        return Result(
+            "two_electron.symmetry",
+            "pass",
+            f"{len(relations)} generating relation(s) hold: {', '.join(relations)}",
+            value=worst.max_abs,
+            limit=ctx.limit,
+            where=None,
+            details=details,
+        )
     broken = sum(dev.count for _, dev in found if dev.relation == worst.relation)
-    message = (f"{worst.relation.text} is broken for {broken} of {worst.elements} elements; largest "
-               f"{worst.max_abs:.3g} at {where} against {_index_text(ham, label, partner)}, "
-               f"limit {ctx.limit:.3g}; {_cause(ham, ctx, worst, broken)}")
-    return Result("two_electron.symmetry", "fail", message, value=worst.max_abs, limit=ctx.limit,
-                  where=where, details=details | {"relation": worst.relation.text, "count": broken})
+    message = (
+        f"{worst.relation.text} is broken for {broken} of {worst.elements} elements; largest "
+        f"{worst.max_abs:.3g} at {where} against {_index_text(ham, label, partner)}, "
+        f"limit {ctx.limit:.3g}; {_cause(ham, ctx, worst, broken)}"
+    )
+    return Result(
+        "two_electron.symmetry",
+        "fail",
+        message,
+        value=worst.max_abs,
+        limit=ctx.limit,
+        where=where,
+        details=details | {"relation": worst.relation.text, "count": broken},
+    )
 
 
 def _cause(ham, ctx, worst: Deviation, broken: int) -> str:
@@ -94,8 +121,10 @@ def _cause(ham, ctx, worst: Deviation, broken: int) -> str:
     if two.storage == "dense" and not two.antisymmetrized:
         other = OTHER[two.notation]
         if _fits(deviations(ham, ctx, other), ctx.limit):
-            return (f"the relations of {other} notation hold: the array is probably {other} "
-                    f"{'<pq|rs>' if other == 'physicist' else '(pq|rs)'} labelled {two.notation}")
+            return (
+                f"the relations of {other} notation hold: the array is probably {other} "
+                f"{'<pq|rs>' if other == 'physicist' else '(pq|rs)'} labelled {two.notation}"
+            )
     if broken <= FEW_ELEMENTS:
         return "only a few elements break it: isolated altered values (a damaged transfer or a hand edit)"
     if worst.relation.conjugate:
@@ -117,29 +146,48 @@ def check_notation(ham, ctx) -> Result:
     mine, theirs = deviations(ham, ctx, declared), deviations(ham, ctx, other)
     mine_fit, theirs_fit = _fits(mine, ctx.limit), _fits(theirs, ctx.limit)
     mine_worst, theirs_worst = _worst(mine)[1].max_abs, _worst(theirs)[1].max_abs
-    figures = {"value": mine_worst, "limit": ctx.limit,
-               "details": {declared: mine_worst, other: theirs_worst}}
+    figures = {"value": mine_worst, "limit": ctx.limit, "details": {declared: mine_worst, other: theirs_worst}}
     if mine_fit and theirs_fit:
-        return Result("two_electron.notation", "warn",
-                      f"both notations' relations hold (largest deviations {mine_worst:.2g} {declared}, "
-                      f"{theirs_worst:.2g} {other}): the array has extra symmetry (a model interaction, or "
-                      "too few orbitals) and the values cannot confirm the notation", **figures)
+        return Result(
+            "two_electron.notation",
+            "warn",
+            f"both notations' relations hold (largest deviations {mine_worst:.2g} {declared}, "
+            f"{theirs_worst:.2g} {other}): the array has extra symmetry (a model interaction, or "
+            "too few orbitals) and the values cannot confirm the notation",
+            **figures,
+        )
     if mine_fit:
-        return Result("two_electron.notation", "pass",
-                      f"the relations of {declared} notation hold and those of {other} do not "
-                      f"(largest {other} deviation {theirs_worst:.3g})", **figures)
+        return Result(
+            "two_electron.notation",
+            "pass",
+            f"the relations of {declared} notation hold and those of {other} do not "
+            f"(largest {other} deviation {theirs_worst:.3g})",
+            **figures,
+        )
     if theirs_fit:
-        return Result("two_electron.notation", "fail",
-                      f"declared {declared}, but the array obeys the relations of {other} notation and not "
-                      f"those of {declared} (largest {declared} deviation {mine_worst:.3g}): it is probably "
-                      f"{other} stored under the wrong label", where="two_electron.notation", **figures)
+        return Result(
+            "two_electron.notation",
+            "fail",
+            f"declared {declared}, but the array obeys the relations of {other} notation and not "
+            f"those of {declared} (largest {declared} deviation {mine_worst:.3g}): it is probably "
+            f"{other} stored under the wrong label",
+            where="two_electron.notation",
+            **figures,
+        )
     mine_count = sum(dev.count for _, dev in mine)
     theirs_count = sum(dev.count for _, dev in theirs)
     if mine_count <= theirs_count:
-        return Result("two_electron.notation", "pass",
-                      f"neither notation's relations hold exactly, but {declared} fits better "
-                      f"({mine_count} broken elements against {theirs_count}); see two_electron.symmetry",
-                      **figures)
-    return Result("two_electron.notation", "warn",
-                  f"neither notation's relations hold, and {other} fits better than the declared {declared} "
-                  f"({theirs_count} broken elements against {mine_count})", **figures)
+        return Result(
+            "two_electron.notation",
+            "pass",
+            f"neither notation's relations hold exactly, but {declared} fits better "
+            f"({mine_count} broken elements against {theirs_count}); see two_electron.symmetry",
+            **figures,
+        )
+    return Result(
+        "two_electron.notation",
+        "warn",
+        f"neither notation's relations hold, and {other} fits better than the declared {declared} "
+        f"({theirs_count} broken elements against {mine_count})",
+        **figures,
+    )

@@ -134,7 +134,5 @@ def map_references(references, occupation_map) -> tuple[Reference, ...]:
         if ref.occupation is None:
             out.append(ref)
         else:
-            out.append(
-                dataclasses.replace(ref, occupation=occupation_map(ref.occupation, ref.label))
-            )
+            out.append(dataclasses.replace(ref, occupation=occupation_map(ref.occupation, ref.label)))
     return tuple(out)

@@ -175,11 +175,7 @@ def _checksum_step(ham: Hamiltonian, force: bool) -> list[dict]:
             "written; converting would write a fresh checksum over a damaged file. Check the "
             "file, or pass force=True (--force) to convert it anyway",
         )
-    return [
-        step_entry(
-            "checksum", ham.checksum, computed, fingerprint_changed=False, accepted_mismatch=True
-        )
-    ]
+    return [step_entry("checksum", ham.checksum, computed, fingerprint_changed=False, accepted_mismatch=True)]
 
 
 def _reindex_step(ham: Hamiltonian, target: Target, owned: bool = False):
@@ -224,19 +220,13 @@ def _reindex_step(ham: Hamiltonian, target: Target, owned: bool = False):
             canonical=orb.canonical,
         )
         changes["one_electron"] = reindexed(ham.one_electron, n_spatial=n_spatial, layout=layout)
-        changes["references"] = map_references(
-            ham.references, lambda occ, label: relabelled_occupation(occ, new_index)
-        )
+        changes["references"] = map_references(ham.references, lambda occ, label: relabelled_occupation(occ, new_index))
         entries.append(step_entry("spin_layout", layout[0], layout[1], fingerprint_changed=True))
     if swap:
-        entries.append(
-            step_entry("notation", two.notation, target.notation, fingerprint_changed=False)
-        )
+        entries.append(step_entry("notation", two.notation, target.notation, fingerprint_changed=False))
     if anti:
         if not in_place:
-            anti_changed = change_layout or not _same_as_plain(
-                array, two.notation, new_array, n_spatial
-            )
+            anti_changed = change_layout or not _same_as_plain(array, two.notation, new_array, n_spatial)
         entries.append(step_entry("antisymmetrize", False, True, fingerprint_changed=anti_changed))
     changes["two_electron"] = TwoElectron(
         new_array,

@@ -63,9 +63,7 @@ def spin_split(array: np.ndarray, n_spatial: int, layout: str) -> np.ndarray:
         view = array.reshape((n_spatial, 2) * k)
         order = [axis for i in range(k) for axis in (2 * i + 1, 2 * i)]
         return view.transpose(order)
-    raise FieldError(
-        "orbitals.spin_layout", f"unknown spin layout {layout!r}; expected one of {SPIN_LAYOUTS}"
-    )
+    raise FieldError("orbitals.spin_layout", f"unknown spin layout {layout!r}; expected one of {SPIN_LAYOUTS}")
 
 
 def reindexed(

@@ -97,11 +97,7 @@ class _SpinOrbitals:
 def _integral_text(names: _SpinOrbitals, spins, spatial, value, notation: str) -> str:
     P, Q, R, S = names.chemist(spins, spatial)
     labels = " ".join(f"{p}{'ab'[s]}" for p, s in zip(spatial, spins, strict=True))
-    stored = (
-        f"two_electron[{P}, {R}, {Q}, {S}]"
-        if notation == "physicist"
-        else f"two_electron[{P}, {Q}, {R}, {S}]"
-    )
+    stored = f"two_electron[{P}, {R}, {Q}, {S}]" if notation == "physicist" else f"two_electron[{P}, {Q}, {R}, {S}]"
     return f"({P} {Q}|{R} {S}) = {_number(value)} (spatial and spin {labels}; stored at {stored})"
 
 
@@ -241,9 +237,7 @@ def _refuse_antisymmetrized(ham: Hamiltonian, target: str) -> None:
         )
 
 
-def from_spin_orbital_step(
-    ham: Hamiltonian, basis: str, *, force: bool = False, tolerance: float = 1e-10
-):
+def from_spin_orbital_step(ham: Hamiltonian, basis: str, *, force: bool = False, tolerance: float = 1e-10):
     """Spin-orbital (dense, plain) -> ``basis`` ("unrestricted" or "restricted"); (ham, entries).
 
     The result keeps the input's notation. Irreps of alpha and beta spin
@@ -268,9 +262,7 @@ def from_spin_orbital_step(
         split[1, :, 1, :, 1, :, 1, :],
     ]
     if two.notation == "physicist":
-        blocks = [
-            np.swapaxes(block, -3, -2) for block in blocks
-        ]  # phys_ab[p,q,r,s] = chem_ab[p,r,q,s]
+        blocks = [np.swapaxes(block, -3, -2) for block in blocks]  # phys_ab[p,q,r,s] = chem_ab[p,r,q,s]
     if basis == "restricted":
         one, eri = np.ascontiguousarray(h[0, :, 0, :]), np.ascontiguousarray(blocks[0])
     else:
@@ -280,9 +272,7 @@ def from_spin_orbital_step(
         irreps = spatial_irreps(irreps, layout)
     except RefusedError as err:
         if not force:
-            raise RefusedError(
-                err.field, err.reason + "; pass force=True (--force) to drop the irreps"
-            ) from None
+            raise RefusedError(err.field, err.reason + "; pass force=True (--force) to drop the irreps") from None
         irreps, extra = None, {**extra, "dropped_irreps": True}
     orb = ham.orbitals
     references = map_references(
@@ -306,9 +296,7 @@ def from_spin_orbital_step(
         ),
         references=references,
     )
-    entry = step_entry(
-        "basis", "spin-orbital", basis, fingerprint_changed=True, spin_layout=layout, **extra
-    )
+    entry = step_entry("basis", "spin-orbital", basis, fingerprint_changed=True, spin_layout=layout, **extra)
     return result, [entry]
 
 
@@ -334,6 +322,4 @@ def to_restricted_step(ham: Hamiltonian, *, force: bool = False, tolerance: floa
             antisymmetrized=two.antisymmetrized,
         ),
     )
-    return result, [
-        step_entry("basis", "unrestricted", "restricted", fingerprint_changed=True, **extra)
-    ]
+    return result, [step_entry("basis", "unrestricted", "restricted", fingerprint_changed=True, **extra)]

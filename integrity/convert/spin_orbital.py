@@ -82,9 +82,7 @@ def to_spin_orbital_step(ham: Hamiltonian, layout: str, notation: str | None = N
         irreps=spin_orbital_irreps(orb.irreps, layout),
         canonical=orb.canonical,
     )
-    references = map_references(
-        ham.references, lambda occ, label: occupation_to_spin_orbitals(occ, n, layout)
-    )
+    references = map_references(ham.references, lambda occ, label: occupation_to_spin_orbitals(occ, n, layout))
     result = ham.replace(
         orbitals=orbitals,
         one_electron=one,
@@ -97,9 +95,7 @@ def to_spin_orbital_step(ham: Hamiltonian, layout: str, notation: str | None = N
         ),
         references=references,
     )
-    entries = [
-        step_entry("basis", ham.basis, "spin-orbital", fingerprint_changed=True, spin_layout=layout)
-    ]
+    entries = [step_entry("basis", ham.basis, "spin-orbital", fingerprint_changed=True, spin_layout=layout)]
     if notation != two.notation:
         entries.append(step_entry("notation", two.notation, notation, fingerprint_changed=False))
     return result, entries

@@ -271,17 +271,14 @@ def storage_step(
     extra = {}
     exact = True
     if PACKING_ORDER[storage] > PACKING_ORDER[source]:
-        measure = measure_symmetry(
-            blocks, ASSUMED[source, storage], tolerance, GENERATORS[source, storage]
-        )
+        measure = measure_symmetry(blocks, ASSUMED[source, storage], tolerance, GENERATORS[source, storage])
         exact = measure.exact
         if not exact:
             if measure.max_abs > tolerance and not force:
                 raise RefusedError("two_electron", _refusal(measure, source, storage, n, tolerance))
             extra = {
                 "dropped_max_deviation": measure.max_abs,
-                "dropped_relation": (f"{measure.label} " if measure.label else "")
-                + measure.worst.relation.text,
+                "dropped_relation": (f"{measure.label} " if measure.label else "") + measure.worst.relation.text,
                 "tolerance": tolerance,
                 "forced": measure.max_abs > tolerance,
             }

@@ -149,8 +149,9 @@ def save(
     content = content_from_hamiltonian(ham)
     try:
         if container_of(path) == "hdf5":
-            hdf5.write(content, path, force=force, compression=compression,
-                       compression_opts=compression_opts, chunks=chunks)
+            hdf5.write(
+                content, path, force=force, compression=compression, compression_opts=compression_opts, chunks=chunks
+            )
         else:
             if compression is not None or chunks is not None:
                 raise FieldError("compression", "compression and chunking are HDF5 options; JSON is plain text")

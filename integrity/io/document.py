@@ -72,12 +72,25 @@ def parse_bytes(text: str) -> int:
     >>> parse_bytes("512MiB"), parse_bytes("4GiB"), parse_bytes("1.5 GB")
     (536870912, 4294967296, 1500000000)
     """
-    units = {"": 1, "b": 1, "k": 10**3, "kb": 10**3, "kib": 2**10, "m": 10**6, "mb": 10**6,
-             "mib": 2**20, "g": 10**9, "gb": 10**9, "gib": 2**30, "t": 10**12, "tb": 10**12,
-             "tib": 2**40}
+    units = {
+        "": 1,
+        "b": 1,
+        "k": 10**3,
+        "kb": 10**3,
+        "kib": 2**10,
+        "m": 10**6,
+        "mb": 10**6,
+        "mib": 2**20,
+        "g": 10**9,
+        "gb": 10**9,
+        "gib": 2**30,
+        "t": 10**12,
+        "tb": 10**12,
+        "tib": 2**40,
+    }
     cleaned = text.strip().lower().replace(" ", "")
     number = cleaned.rstrip("kmgtib")
-    unit = cleaned[len(number):]
+    unit = cleaned[len(number) :]
     try:
         value = float(number)
     except ValueError:

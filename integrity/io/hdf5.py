@@ -45,8 +45,10 @@ class StoredArray:
         self.shape = tuple(dataset.shape)
         stored = dataset.dtype
         self._fields = None
-        if stored.names is not None and len(stored.names) == 2 and all(
-            stored.fields[f][0].kind == "f" and stored.fields[f][0].itemsize == 8 for f in stored.names
+        if (
+            stored.names is not None
+            and len(stored.names) == 2
+            and all(stored.fields[f][0].kind == "f" and stored.fields[f][0].itemsize == 8 for f in stored.names)
         ):
             self._fields = stored.names
             self.dtype = np.dtype(np.complex128)
@@ -61,7 +63,9 @@ class StoredArray:
         try:
             raw = self.dataset[key]
         except OSError as err:
-            raise ContainerError(self.name, f"cannot read the data ({err}); the file may be truncated or damaged") from None
+            raise ContainerError(
+                self.name, f"cannot read the data ({err}); the file may be truncated or damaged"
+            ) from None
         if self._fields is not None:
             real, imag = self._fields
             out = np.empty(raw.shape, dtype=np.complex128)
@@ -185,8 +189,12 @@ def read(path: str, *, memory: int, lazy: bool | str = False) -> Document:
         handle.close()
         raise
     return Document(
-        path=str(path), container="hdf5", tree=tree, locate=location,
-        decoder=lambda: _content(tree, arrays, memory, lazy), closer=handle.close,
+        path=str(path),
+        container="hdf5",
+        tree=tree,
+        locate=location,
+        decoder=lambda: _content(tree, arrays, memory, lazy),
+        closer=handle.close,
     )
 
 
@@ -263,8 +271,9 @@ def tree_of_content(content: dict) -> dict:
     return tree
 
 
-def write(content: dict, path, *, force: bool = False, compression: str | None = None,
-          compression_opts=None, chunks=None) -> None:
+def write(
+    content: dict, path, *, force: bool = False, compression: str | None = None, compression_opts=None, chunks=None
+) -> None:
     """Write a content dict as an HDF5 file, atomically (see :mod:`integrity.io.atomic`).
 
     ``compression`` is None, ``"gzip"`` or ``"lzf"``; ``chunks`` as h5py takes it.

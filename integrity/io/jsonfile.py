@@ -42,8 +42,9 @@ class _Offending(ValueError):
 
 
 def _reject_constant(name: str):
-    raise _Offending(f"{name} is not JSON; the format forbids NaN and infinities",
-                     r"(?<![\w\"])" + re.escape(name) + r"(?![\w\"])")
+    raise _Offending(
+        f"{name} is not JSON; the format forbids NaN and infinities", r"(?<![\w\"])" + re.escape(name) + r"(?![\w\"])"
+    )
 
 
 def _no_duplicates(pairs):
@@ -77,15 +78,21 @@ def read(path, *, memory: int) -> Document:
         raise ContainerError(None, "no such file", str(path)) from None
     needed = size * PARSE_BYTES_PER_TEXT_BYTE
     if needed > memory:
-        raise BudgetError(None, f"{format_bytes(size)} of JSON text needs about {format_bytes(needed)} to parse, "
-                          f"beyond the memory budget of {format_bytes(memory)}; raise --memory or use HDF5",
-                          str(path), needed=needed, budget=memory)
+        raise BudgetError(
+            None,
+            f"{format_bytes(size)} of JSON text needs about {format_bytes(needed)} to parse, "
+            f"beyond the memory budget of {format_bytes(memory)}; raise --memory or use HDF5",
+            str(path),
+            needed=needed,
+            budget=memory,
+        )
     try:
         with open(path, encoding="utf-8") as handle:
             text = handle.read()
     except UnicodeDecodeError as err:
-        raise ContainerError(None, f"not UTF-8 text (byte {err.start}); is this an HDF5 file named .json?",
-                             str(path)) from None
+        raise ContainerError(
+            None, f"not UTF-8 text (byte {err.start}); is this an HDF5 file named .json?", str(path)
+        ) from None
     try:
         tree = json.loads(text, parse_constant=_reject_constant, object_pairs_hook=_no_duplicates)
     except json.JSONDecodeError as err:
@@ -108,8 +115,11 @@ def _locate(path: tuple) -> str:
 
 def decode(tree: dict) -> dict:
     """The logical content of a JSON document (arrays decoded to NumPy)."""
-    content = {k: v for k, v in tree.items() if k not in ("one_electron", "two_electron", "orbitals",
-                                                          "references", "provenance")}
+    content = {
+        k: v
+        for k, v in tree.items()
+        if k not in ("one_electron", "two_electron", "orbitals", "references", "provenance")
+    }
     if isinstance(tree.get("orbitals"), dict):
         orbitals = dict(tree["orbitals"])
         if isinstance(orbitals.get("irreps"), dict):
@@ -127,8 +137,10 @@ def decode(tree: dict) -> dict:
         provenance = dict(tree["provenance"])
         if isinstance(provenance.get("history"), list):
             # steps may be objects, or (mirroring HDF5) JSON text of objects
-            provenance["history"] = [history_entry_from_text(s, unwrap_strings=False) if isinstance(s, str) else s
-                                     for s in provenance["history"]]
+            provenance["history"] = [
+                history_entry_from_text(s, unwrap_strings=False) if isinstance(s, str) else s
+                for s in provenance["history"]
+            ]
         content["provenance"] = provenance
     return content
 

@@ -75,8 +75,9 @@ def test_select_skip_and_tolerance_change_what_runs(runner):
     assert [c["id"] for c in json.loads(selected.output)["files"][0]["checks"]] == ["checksum"]
     skipped = runner.invoke(main, ["check", DAMAGED, "--skip", "two_electron.symmetry", "--skip", "checksum"])
     assert skipped.exit_code == 0
-    loosened = runner.invoke(main, ["check", DAMAGED, "--tolerance", "two_electron.symmetry=1e-5",
-                                    "--skip", "checksum"])
+    loosened = runner.invoke(
+        main, ["check", DAMAGED, "--tolerance", "two_electron.symmetry=1e-5", "--skip", "checksum"]
+    )
     assert loosened.exit_code == 0
 
 

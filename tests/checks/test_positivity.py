@@ -29,8 +29,13 @@ POSITIVE = ["two_electron.positive"]
 
 def _ham(eri, storage="dense", notation="chemist", interaction=None, n=None):
     n = eri.shape[0] if n is None else n
-    return Hamiltonian(Orbitals(n, "restricted"), Electrons(1, 1), 0.0, np.eye(n),
-                       TwoElectron(eri, notation=notation, storage=storage, interaction=interaction))
+    return Hamiltonian(
+        Orbitals(n, "restricted"),
+        Electrons(1, 1),
+        0.0,
+        np.eye(n),
+        TwoElectron(eri, notation=notation, storage=storage, interaction=interaction),
+    )
 
 
 @pytest.fixture(scope="module", params=MOLECULES, ids=[b + " " + a.split()[0] for a, b in MOLECULES])

@@ -21,7 +21,15 @@ from integrity.checks.relations import orbit, relations_for
 from integrity.model import Electrons, Hamiltonian, Orbitals, TwoElectron
 
 REAL_EIGHT = [  # (pq|rs) equals X[...] under these index orders (Sherrill, eq. 7)
-    (0, 1, 2, 3), (1, 0, 2, 3), (0, 1, 3, 2), (1, 0, 3, 2), (2, 3, 0, 1), (3, 2, 0, 1), (2, 3, 1, 0), (3, 2, 1, 0)]
+    (0, 1, 2, 3),
+    (1, 0, 2, 3),
+    (0, 1, 3, 2),
+    (1, 0, 3, 2),
+    (2, 3, 0, 1),
+    (3, 2, 0, 1),
+    (2, 3, 1, 0),
+    (3, 2, 1, 0),
+]
 COMPLEX_FOUR = [((0, 1, 2, 3), False), ((2, 3, 0, 1), False), ((1, 0, 3, 2), True), ((3, 2, 1, 0), True)]
 
 
@@ -86,8 +94,13 @@ def test_physicist_relation_matches_an_explicit_loop_on_pyscf_integrals(water):
 
 def _ham(eri, notation="chemist", n=None):
     n = eri.shape[0] if n is None else n
-    return Hamiltonian(Orbitals(n, "restricted"), Electrons(1, 1), 0.0, np.eye(n),
-                       TwoElectron(np.ascontiguousarray(eri), notation=notation))
+    return Hamiltonian(
+        Orbitals(n, "restricted"),
+        Electrons(1, 1),
+        0.0,
+        np.eye(n),
+        TwoElectron(np.ascontiguousarray(eri), notation=notation),
+    )
 
 
 def test_pyscf_integrals_pass_the_symmetry_and_notation_checks_in_both_notations(water):

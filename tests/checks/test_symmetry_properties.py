@@ -33,11 +33,14 @@ def _perturb(ham, block, index, delta):
 
 @settings(max_examples=60, deadline=None)
 @given(
-    basis=bases, n=st.integers(2, 5), complex_values=st.booleans(), seed=st.integers(0, 10**6),
-    data=st.data(), magnitude=st.floats(1e-8, 1.0),
+    basis=bases,
+    n=st.integers(2, 5),
+    complex_values=st.booleans(),
+    seed=st.integers(0, 10**6),
+    data=st.data(),
+    magnitude=st.floats(1e-8, 1.0),
 )
-def test_one_altered_element_is_caught_and_where_points_at_it(basis, n, complex_values, seed, data,
-                                                             magnitude):
+def test_one_altered_element_is_caught_and_where_points_at_it(basis, n, complex_values, seed, data, magnitude):
     ham = random_hamiltonian(basis, n, complex_values=complex_values, seed=seed)
     block = data.draw(st.sampled_from([0, 1, 2])) if basis == "unrestricted" else None
     index = tuple(data.draw(st.integers(0, n - 1)) for _ in range(4))
@@ -45,8 +48,7 @@ def test_one_altered_element_is_caught_and_where_points_at_it(basis, n, complex_
     members = orbit(index, relations)
     delta = magnitude * (1j if complex_values and data.draw(st.booleans()) else 1.0)
     # only a change that some relation sees can be caught: (pp|pp) may change freely when real
-    if not any(image != index or delta != sign * (np.conj(delta) if conj else delta)
-               for image, sign, conj in members):
+    if not any(image != index or delta != sign * (np.conj(delta) if conj else delta) for image, sign, conj in members):
         return
     altered = _perturb(ham, block, index, delta)
     result = check(altered, select=SYMMETRY).results[0]

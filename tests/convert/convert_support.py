@@ -186,27 +186,21 @@ def with_references(ham: Hamiltonian, rng) -> Hamiltonian:
     occupation = _occupation(per_spin, per_spin, ham.electrons, rng)
     if ham.basis == "spin-orbital":
         occupation = tuple(
-            tuple(spin_orbital(p, s, per_spin, ham.orbitals.spin_layout) for p in occupation[s])
-            for s in (0, 1)
+            tuple(spin_orbital(p, s, per_spin, ham.orbitals.spin_layout) for p in occupation[s]) for s in (0, 1)
         )
     default = (tuple(range(ham.electrons.alpha)), tuple(range(ham.electrons.beta)))
     if ham.basis == "spin-orbital":
         default = tuple(
-            tuple(spin_orbital(p, s, per_spin, ham.orbitals.spin_layout) for p in default[s])
-            for s in (0, 1)
+            tuple(spin_orbital(p, s, per_spin, ham.orbitals.spin_layout) for p in default[s]) for s in (0, 1)
         )
     references = (
-        Reference(
-            "hf", "hf", float(np.real(determinant_energy(ham, occupation))), occupation=occupation
-        ),
+        Reference("hf", "hf", float(np.real(determinant_energy(ham, occupation))), occupation=occupation),
         Reference("hf-default", "hf", float(np.real(determinant_energy(ham, default)))),
     )
     return ham.replace(references=references)
 
 
-def restricted(
-    n: int, rng, *, is_complex=False, notation="chemist", storage="dense", irreps=True
-) -> Hamiltonian:
+def restricted(n: int, rng, *, is_complex=False, notation="chemist", storage="dense", irreps=True) -> Hamiltonian:
     """A random restricted Hamiltonian with exact 8-fold (real) or 4-fold (complex) symmetry."""
     h = hermitian(n, rng, is_complex)
     if is_complex:
@@ -236,9 +230,7 @@ def restricted(
     return with_references(ham, rng)
 
 
-def unrestricted(
-    n: int, rng, *, is_complex=False, notation="chemist", storage="dense", irreps=True
-) -> Hamiltonian:
+def unrestricted(n: int, rng, *, is_complex=False, notation="chemist", storage="dense", irreps=True) -> Hamiltonian:
     """A random unrestricted Hamiltonian: [aa, ab, bb] with the ab block's own symmetry."""
     h = np.stack([hermitian(n, rng, is_complex), hermitian(n, rng, is_complex)])
     if is_complex:
@@ -321,16 +313,12 @@ def spin_orbital_of(ham: Hamiltonian, layout: str, notation: str = "chemist") ->
         electrons=ham.electrons,
         core_energy=ham.core_energy,
         one_electron=h_so,
-        two_electron=TwoElectron(
-            physicist_of(eri_so) if notation == "physicist" else eri_so, notation=notation
-        ),
+        two_electron=TwoElectron(physicist_of(eri_so) if notation == "physicist" else eri_so, notation=notation),
     )
     return with_references(so, seeded(f"references {n} {layout}"))
 
 
-def generic_spin_orbital(
-    m: int, rng, *, is_complex=False, layout="interleaved", notation="chemist"
-) -> Hamiltonian:
+def generic_spin_orbital(m: int, rng, *, is_complex=False, layout="interleaved", notation="chemist") -> Hamiltonian:
     """A spin-orbital Hamiltonian with every element set (alpha-beta coupled, e.g. spin-orbit)."""
     h = hermitian(m, rng, is_complex)
     chem = complex_chemist(m, rng) if is_complex else real_chemist(m, rng)[0]
@@ -339,9 +327,7 @@ def generic_spin_orbital(
         electrons=Electrons(int(rng.integers(0, m // 2 + 1)), int(rng.integers(0, m // 2 + 1))),
         core_energy=float(rng.standard_normal()),
         one_electron=h,
-        two_electron=TwoElectron(
-            physicist_of(chem) if notation == "physicist" else chem, notation=notation
-        ),
+        two_electron=TwoElectron(physicist_of(chem) if notation == "physicist" else chem, notation=notation),
     )
     return with_references(ham, rng)
 

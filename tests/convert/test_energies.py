@@ -58,9 +58,7 @@ SPIN_ORBITAL_REQUESTS = [
 
 
 def _energies(ham):
-    return {
-        ref.label: determinant_energy(ham, reference_occupation(ham, ref)) for ref in ham.references
-    }
+    return {ref.label: determinant_energy(ham, reference_occupation(ham, ref)) for ref in ham.references}
 
 
 def _assert_same_energies(before, after):
@@ -72,9 +70,7 @@ def _assert_same_energies(before, after):
         assert abs(energy - before.reference(label).energy) < TOL
 
 
-@pytest.mark.parametrize(
-    "request_", SPATIAL_REQUESTS + REAL_ONLY + [{"basis": "unrestricted"}], ids=str
-)
+@pytest.mark.parametrize("request_", SPATIAL_REQUESTS + REAL_ONLY + [{"basis": "unrestricted"}], ids=str)
 def test_restricted_determinant_energies_survive_every_conversion(request_):
     ham = restricted(4, seeded(f"energy r {request_}"))
     _assert_same_energies(ham, convert(ham, **request_).hamiltonian)
@@ -133,9 +129,7 @@ def _fci_energy(ham):
             "spin_layout": ham.orbitals.spin_layout,
             "n_alpha": ham.electrons.alpha,
         }
-    result = solve_arrays(
-        ham.basis, np.asarray(ham.one_electron), np.asarray(eri), ham.core_energy, **kwargs
-    )
+    result = solve_arrays(ham.basis, np.asarray(ham.one_electron), np.asarray(eri), ham.core_energy, **kwargs)
     return result.roots[0].energy
 
 

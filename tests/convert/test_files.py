@@ -46,9 +46,7 @@ def saved(tmp_path):
     seed=st.integers(0, 2**32 - 1),
     first=st.sampled_from([".h5", ".json"]),
 )
-def test_hdf5_to_json_and_back_is_bit_exact_and_keeps_the_fingerprint(
-    tmp_path_factory, basis, is_complex, seed, first
-):
+def test_hdf5_to_json_and_back_is_bit_exact_and_keeps_the_fingerprint(tmp_path_factory, basis, is_complex, seed, first):
     folder = tmp_path_factory.mktemp("containers")
     ham = BUILDERS[basis](np.random.default_rng(seed), is_complex)
     second = ".json" if first == ".h5" else ".h5"

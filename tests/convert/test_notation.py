@@ -60,9 +60,7 @@ def test_the_notation_copy_is_c_contiguous_and_independent_of_the_input():
     is_complex=st.booleans(),
     seed=st.integers(0, 2**32 - 1),
 )
-def test_chemist_to_physicist_and_back_is_bit_exact_and_keeps_the_fingerprint(
-    basis, n, is_complex, seed
-):
+def test_chemist_to_physicist_and_back_is_bit_exact_and_keeps_the_fingerprint(basis, n, is_complex, seed):
     n = min(n, 3) if basis == "spin-orbital" else n
     ham = BUILDERS[basis](n, np.random.default_rng(seed), is_complex)
     there = convert(ham, notation="physicist")
@@ -78,6 +76,4 @@ def test_chemist_to_physicist_and_back_is_bit_exact_and_keeps_the_fingerprint(
 def test_asking_for_the_notation_a_file_already_has_is_no_step():
     ham = restricted(2, seeded("same"))
     result = convert(ham, notation="chemist")
-    assert result.steps == () and same_bits(
-        result.hamiltonian.two_electron.array, ham.two_electron.array
-    )
+    assert result.steps == () and same_bits(result.hamiltonian.two_electron.array, ham.two_electron.array)

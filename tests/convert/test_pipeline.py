@@ -123,9 +123,7 @@ def test_a_matching_checksum_passes_without_an_entry():
 
 def test_the_order_is_basis_then_layout_then_notation_then_antisymmetrize_then_storage():
     ham = restricted(2, seeded("order"), storage="pairs", notation="chemist")
-    result = convert(
-        ham, basis="spin-orbital", spin_layout="blocked", notation="physicist", antisymmetrize=True
-    )
+    result = convert(ham, basis="spin-orbital", spin_layout="blocked", notation="physicist", antisymmetrize=True)
     assert [s["step"] for s in result.steps] == ["storage", "basis", "notation", "antisymmetrize"]
     assert result.hamiltonian.two_electron.storage == "dense"
 
@@ -144,6 +142,4 @@ def test_complex_one_electron_with_real_two_electron_converts():
     ham = restricted(2, seeded("mixed dtype"))
     ham = ham.replace(one_electron=ham.one_electron.astype(complex), references=())
     result = convert(ham, basis="spin-orbital").hamiltonian
-    assert (
-        result.one_electron.dtype == np.complex128 and result.two_electron.array.dtype == np.float64
-    )
+    assert result.one_electron.dtype == np.complex128 and result.two_electron.array.dtype == np.float64

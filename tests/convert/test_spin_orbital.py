@@ -101,9 +101,7 @@ def test_to_spin_orbitals_and_back_is_bit_exact_with_irreps_and_references(
     notation=st.sampled_from(["chemist", "physicist"]),
     seed=st.integers(0, 2**32 - 1),
 )
-def test_a_separable_spin_orbital_file_goes_to_spatial_orbitals_and_back_bit_exactly(
-    basis, n, layout, notation, seed
-):
+def test_a_separable_spin_orbital_file_goes_to_spatial_orbitals_and_back_bit_exactly(basis, n, layout, notation, seed):
     build = restricted if basis == "restricted" else unrestricted
     so = spin_orbital_of(build(n, np.random.default_rng(seed)), layout, notation)
     spatial = convert(so, basis=basis)
@@ -120,9 +118,7 @@ def test_a_separable_spin_orbital_file_goes_to_spatial_orbitals_and_back_bit_exa
     seed=st.integers(0, 2**32 - 1),
 )
 def test_interleaved_to_blocked_and_back_is_bit_exact(m_half, is_complex, notation, seed):
-    ham = generic_spin_orbital(
-        2 * m_half, np.random.default_rng(seed), is_complex=is_complex, notation=notation
-    )
+    ham = generic_spin_orbital(2 * m_half, np.random.default_rng(seed), is_complex=is_complex, notation=notation)
     there = convert_spin_layout(ham, "blocked")
     back = convert_spin_layout(there.hamiltonian, "interleaved").hamiltonian
     assert there.steps[0]["fingerprint_changed"] is True
@@ -133,16 +129,9 @@ def test_the_blocked_layout_renumbers_every_index_by_the_same_map():
     n = 3
     ham = generic_spin_orbital(2 * n, seeded("renumber"))
     blocked = convert_spin_layout(ham, "blocked").hamiltonian
-    new = {
-        spin_orbital(p, s, n, "interleaved"): spin_orbital(p, s, n, "blocked")
-        for p in range(n)
-        for s in (0, 1)
-    }
+    new = {spin_orbital(p, s, n, "interleaved"): spin_orbital(p, s, n, "blocked") for p in range(n) for s in (0, 1)}
     for P, Q, R, S in itertools.product(range(2 * n), repeat=4):
-        assert (
-            blocked.two_electron.array[new[P], new[Q], new[R], new[S]]
-            == ham.two_electron.array[P, Q, R, S]
-        )
+        assert blocked.two_electron.array[new[P], new[Q], new[R], new[S]] == ham.two_electron.array[P, Q, R, S]
     for P, Q in itertools.product(range(2 * n), repeat=2):
         assert blocked.one_electron[new[P], new[Q]] == ham.one_electron[P, Q]
     occ = ham.reference("hf").occupation
@@ -174,18 +163,14 @@ def test_irreps_follow_the_spatial_orbital_and_occupations_map_to_spin_orbitals(
 def test_a_spin_orbital_occupation_listed_under_the_wrong_spin_is_refused():
     so = spin_orbital_of(restricted(2, seeded("wrong spin")), "interleaved")
     bad = so.replace(references=(Reference("odd", "hf", 0.0, occupation=((1,), ())),))
-    with pytest.raises(
-        RefusedError, match=r"spin orbital 1 is listed as alpha but is a beta spin orbital"
-    ):
+    with pytest.raises(RefusedError, match=r"spin orbital 1 is listed as alpha but is a beta spin orbital"):
         convert(bad, basis="restricted")
 
 
 def test_alpha_and_beta_spin_orbitals_with_different_irreps_cannot_share_a_spatial_orbital():
     so = spin_orbital_of(restricted(2, seeded("irreps")), "blocked")
     bad = so.replace(
-        orbitals=Orbitals(
-            4, "spin-orbital", spin_layout="blocked", point_group="C2v", irreps=(0, 1, 2, 1)
-        ),
+        orbitals=Orbitals(4, "spin-orbital", spin_layout="blocked", point_group="C2v", irreps=(0, 1, 2, 1)),
         references=(),
     )
     with pytest.raises(
@@ -263,15 +248,11 @@ def test_restricted_to_unrestricted_and_back_is_bit_exact():
     ham = restricted(3, seeded("r u r"), notation="physicist")
     there = convert(ham, basis="unrestricted").hamiltonian
     assert np.array_equal(there.two_electron.array[1], ham.two_electron.array)
-    _same_hamiltonian(
-        convert(there, basis="restricted").hamiltonian.replace(provenance=ham.provenance), ham
-    )
+    _same_hamiltonian(convert(there, basis="restricted").hamiltonian.replace(provenance=ham.provenance), ham)
 
 
 def test_unrestricted_orbitals_that_differ_cannot_become_restricted():
-    with pytest.raises(
-        RefusedError, match=r"unrestricted -> restricted needs equal alpha and beta"
-    ):
+    with pytest.raises(RefusedError, match=r"unrestricted -> restricted needs equal alpha and beta"):
         convert_basis(unrestricted(2, seeded("u r")), "restricted")
 
 
@@ -349,12 +330,8 @@ def test_undoing_antisymmetrization_is_refused_even_when_forced(request_, match)
 
 
 def test_an_antisymmetrized_file_can_still_change_layout_exactly():
-    anti = antisymmetrize(
-        generic_spin_orbital(4, seeded("anti layout"), notation="physicist")
-    ).hamiltonian
-    back = convert_spin_layout(
-        convert_spin_layout(anti, "blocked").hamiltonian, "interleaved"
-    ).hamiltonian
+    anti = antisymmetrize(generic_spin_orbital(4, seeded("anti layout"), notation="physicist")).hamiltonian
+    back = convert_spin_layout(convert_spin_layout(anti, "blocked").hamiltonian, "interleaved").hamiltonian
     assert back.two_electron.antisymmetrized is True
     assert same_bits(back.two_electron.array, anti.two_electron.array)
 

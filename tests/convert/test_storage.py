@@ -90,9 +90,7 @@ def test_converting_pyscf_integrals_to_unique_records_the_rounding_it_drops(wate
     ham = _wrap(water["ao"])
     result = convert(ham, storage="unique")
     entry = result.steps[0]
-    assert np.array_equal(
-        result.hamiltonian.two_electron.array, water["restore"](8, water["ao"], 7)
-    )
+    assert np.array_equal(result.hamiltonian.two_electron.array, water["restore"](8, water["ao"], 7))
     assert 0 < entry["dropped_max_deviation"] < 1e-13 and entry["forced"] is False
     assert entry["fingerprint_changed"] is True
     assert fingerprint(result.hamiltonian) != fingerprint(ham)
@@ -131,9 +129,7 @@ def _storage_cases():
     layout=st.sampled_from(["interleaved", "blocked"]),
     seed=st.integers(0, 2**32 - 1),
 )
-def test_every_storage_change_and_its_inverse_return_the_same_bits_and_fingerprint(
-    case, n, layout, seed
-):
+def test_every_storage_change_and_its_inverse_return_the_same_bits_and_fingerprint(case, n, layout, seed):
     basis, source, target = case
     rng = np.random.default_rng(seed)
     if basis == "unrestricted":
@@ -141,9 +137,7 @@ def test_every_storage_change_and_its_inverse_return_the_same_bits_and_fingerpri
     elif basis == "restricted":
         ham = restricted(n, rng, storage=source)
     else:
-        ham = convert(
-            spin_orbital_of(restricted(min(n, 3), rng), layout), storage=source
-        ).hamiltonian
+        ham = convert(spin_orbital_of(restricted(min(n, 3), rng), layout), storage=source).hamiltonian
     there = convert_storage(ham, target)
     back = convert_storage(there.hamiltonian, source)
     assert there.hamiltonian.two_electron.storage == target
@@ -234,12 +228,8 @@ def test_pairs_to_unique_checks_the_pair_matrix_and_reports_orbital_indices():
     ham = restricted(3, seeded("pair matrix"), storage="pairs")
     matrix = ham.two_electron.array.copy()
     matrix[pair(2, 1), pair(0, 0)] += 1e-4
-    broken = ham.replace(
-        two_electron=TwoElectron(matrix, notation="chemist", storage="pairs"), references=()
-    )
-    with pytest.raises(
-        RefusedError, match=r"\(pq\|rs\) = \(rs\|pq\).*0\.0001 at \((2, 1, 0, 0|0, 0, 2, 1)\)"
-    ):
+    broken = ham.replace(two_electron=TwoElectron(matrix, notation="chemist", storage="pairs"), references=())
+    with pytest.raises(RefusedError, match=r"\(pq\|rs\) = \(rs\|pq\).*0\.0001 at \((2, 1, 0, 0|0, 0, 2, 1)\)"):
         convert(broken, storage="unique")
 
 

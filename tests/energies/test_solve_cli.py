@@ -15,8 +15,9 @@ GOOD = Path(__file__).resolve().parents[2] / "fixtures" / "good"
 
 
 def test_the_half_filled_hubbard_ring_reproduces_its_pyscf_references():
-    result = CliRunner().invoke(main, ["solve", str(GOOD / "hubbard_ring6_u4.json"), "--roots", "2",
-                                       "--format", "json"])
+    result = CliRunner().invoke(
+        main, ["solve", str(GOOD / "hubbard_ring6_u4.json"), "--roots", "2", "--format", "json"]
+    )
     assert result.exit_code == 0
     roots = json.loads(result.output)["results"][0]["roots"]
     from integrity import load
@@ -28,8 +29,23 @@ def test_the_half_filled_hubbard_ring_reproduces_its_pyscf_references():
 
 
 def test_both_engines_agree_on_the_o2_singlet():
-    result = CliRunner().invoke(main, ["solve", str(GOOD / "o2_sto3g_cas86.h5"), "--alpha", "4", "--beta", "4",
-                                       "--two-s", "0", "--engine", "both", "--format", "json"])
+    result = CliRunner().invoke(
+        main,
+        [
+            "solve",
+            str(GOOD / "o2_sto3g_cas86.h5"),
+            "--alpha",
+            "4",
+            "--beta",
+            "4",
+            "--two-s",
+            "0",
+            "--engine",
+            "both",
+            "--format",
+            "json",
+        ],
+    )
     assert result.exit_code == 0
     native, other = (r["roots"][0]["energy"] for r in json.loads(result.output)["results"])
     assert native == pytest.approx(other, abs=1e-9)
@@ -45,8 +61,13 @@ def test_the_hubbard_dimer_levels_are_the_analytic_ones(tmp_path):
     t, u = 1.0, 3.0
     eri = np.zeros((2, 2, 2, 2))
     eri[0, 0, 0, 0] = eri[1, 1, 1, 1] = u
-    ham = Hamiltonian(Orbitals(2, "restricted"), Electrons(1, 1), 0.0, np.array([[0.0, -t], [-t, 0.0]]),
-                      TwoElectron(eri, "chemist", interaction="model"))
+    ham = Hamiltonian(
+        Orbitals(2, "restricted"),
+        Electrons(1, 1),
+        0.0,
+        np.array([[0.0, -t], [-t, 0.0]]),
+        TwoElectron(eri, "chemist", interaction="model"),
+    )
     save(ham, tmp_path / "dimer.json")
     result = CliRunner().invoke(main, ["solve", str(tmp_path / "dimer.json"), "--roots", "4", "--format", "json"])
     energies = [r["energy"] for r in json.loads(result.output)["results"][0]["roots"]]

@@ -125,8 +125,9 @@ def unique_from_pairs_slow(pairs: np.ndarray) -> np.ndarray:
     return np.array([pairs[i, j] for i in range(npair) for j in range(i + 1)], dtype=pairs.dtype)
 
 
-def dense_chemist_slow(array: np.ndarray, basis: str, n: int, notation: str, storage: str,
-                       antisymmetrized: bool = False) -> np.ndarray:
+def dense_chemist_slow(
+    array: np.ndarray, basis: str, n: int, notation: str, storage: str, antisymmetrized: bool = False
+) -> np.ndarray:
     """The two-electron array as dense chemist (the fingerprint's part 4), from format.md."""
     blocks = list(array) if basis == "unrestricted" else [array]
     out = []
@@ -190,9 +191,7 @@ def float_arrays(draw, shape, is_complex=False):
         value = draw(finite_floats())
         if is_complex:
             old = array.flat[index]
-            array.flat[index] = (
-                complex(value, old.imag) if draw(st.booleans()) else complex(old.real, value)
-            )
+            array.flat[index] = complex(value, old.imag) if draw(st.booleans()) else complex(old.real, value)
         else:
             array.flat[index] = value
     return _without_complex_negative_zeros(array)
@@ -203,9 +202,9 @@ def float_arrays(draw, shape, is_complex=False):
 #: text that survives both containers: no NUL (HDF5 strings), no lone surrogates (UTF-8)
 safe_text = st.text(st.characters(codec="utf-8", exclude_characters="\x00"), max_size=20)
 #: names of HDF5 groups: additionally no "/" and not "." (see the dedicated tests)
-label_text = st.text(
-    st.characters(codec="utf-8", exclude_characters="\x00/"), min_size=1, max_size=12
-).filter(lambda s: s != ".")
+label_text = st.text(st.characters(codec="utf-8", exclude_characters="\x00/"), min_size=1, max_size=12).filter(
+    lambda s: s != "."
+)
 key_text = st.text(st.characters(codec="utf-8", exclude_characters="\x00"), min_size=1, max_size=12)
 int64s = st.integers(-(2**63), 2**63 - 1)
 
@@ -227,21 +226,25 @@ def references(draw, n: int, full: bool = False):
         def maybe(strategy):
             return draw(strategy) if full else draw(st.none() | strategy)
 
-        occupation = maybe(st.tuples(
-            st.lists(st.integers(0, n - 1), unique=True, max_size=n).map(tuple),
-            st.lists(st.integers(0, n - 1), unique=True, max_size=n).map(tuple),
-        ))
-        out.append(Reference(
-            label=label,
-            method=method,
-            energy=draw(finite_floats()),
-            electrons=maybe(st.builds(Electrons, st.integers(0, 2 * n), st.integers(0, 2 * n))),
-            two_s=maybe(st.integers(0, 10)),
-            irrep=maybe(st.integers(0, 7)),
-            root=maybe(st.integers(0, 10)),
-            occupation=occupation,
-            tolerance=maybe(st.floats(min_value=5e-324, max_value=1e10)),
-        ))
+        occupation = maybe(
+            st.tuples(
+                st.lists(st.integers(0, n - 1), unique=True, max_size=n).map(tuple),
+                st.lists(st.integers(0, n - 1), unique=True, max_size=n).map(tuple),
+            )
+        )
+        out.append(
+            Reference(
+                label=label,
+                method=method,
+                energy=draw(finite_floats()),
+                electrons=maybe(st.builds(Electrons, st.integers(0, 2 * n), st.integers(0, 2 * n))),
+                two_s=maybe(st.integers(0, 10)),
+                irrep=maybe(st.integers(0, 7)),
+                root=maybe(st.integers(0, 10)),
+                occupation=occupation,
+                tolerance=maybe(st.floats(min_value=5e-324, max_value=1e10)),
+            )
+        )
     return tuple(out)
 
 
@@ -267,17 +270,24 @@ def hamiltonians(draw, optional: bool | None = None, sizes=(1, 2, 3, 4, 5)):
     point_group = maybe(st.sampled_from(sorted(GROUP_ORDER)))
     order = GROUP_ORDER.get(point_group, 8)
     irreps = maybe(st.lists(st.integers(0, order - 1), min_size=n, max_size=n).map(tuple))
-    provenance = maybe(st.dictionaries(
-        key_text.filter(lambda k: k != "history"), safe_text | int64s | finite_floats() | st.booleans(),
-        max_size=4,
-    ))
+    provenance = maybe(
+        st.dictionaries(
+            key_text.filter(lambda k: k != "history"),
+            safe_text | int64s | finite_floats() | st.booleans(),
+            max_size=4,
+        )
+    )
     history = maybe(st.lists(st.dictionaries(safe_text, json_values, max_size=4), max_size=3))
     if history is not None:
         provenance = {**(provenance or {}), "history": history}
     refs = maybe(references(n, full=bool(optional)))
     return Hamiltonian(
         orbitals=Orbitals(
-            count=n, basis=basis, spin_layout=layout, point_group=point_group, irreps=irreps,
+            count=n,
+            basis=basis,
+            spin_layout=layout,
+            point_group=point_group,
+            irreps=irreps,
             canonical=maybe(st.booleans()),
         ),
         electrons=Electrons(draw(st.integers(0, n)), draw(st.integers(0, n))),
@@ -342,9 +352,7 @@ def assert_same_value(actual: Any, expected: Any, what: str) -> None:
         for i, (a, b) in enumerate(zip(actual, expected, strict=True)):
             assert_same_value(a, b, f"{what}[{i}]")
     elif isinstance(expected, int):
-        assert not isinstance(actual, bool | float) and int(actual) == expected, (
-            f"{what}: {actual!r} != {expected!r}"
-        )
+        assert not isinstance(actual, bool | float) and int(actual) == expected, f"{what}: {actual!r} != {expected!r}"
     else:
         assert actual == expected, f"{what}: {actual!r} != {expected!r}"
 
@@ -367,8 +375,7 @@ def assert_same_hamiltonian(actual: Hamiltonian, expected: Hamiltonian, *, check
     if expected.core_energy_parts is None:
         assert actual.core_energy_parts is None
     else:
-        assert_same_value(dict(actual.core_energy_parts), dict(expected.core_energy_parts),
-                          "core_energy_parts")
+        assert_same_value(dict(actual.core_energy_parts), dict(expected.core_energy_parts), "core_energy_parts")
     assert len(actual.references) == len(expected.references), "references"
     for i, (a, b) in enumerate(zip(actual.references, expected.references, strict=True)):
         for name in ("label", "method", "electrons", "two_s", "irrep", "root", "occupation"):
@@ -393,9 +400,18 @@ def assert_same_hamiltonian(actual: Hamiltonian, expected: Hamiltonian, *, check
 # ---------------------------------------------------------------- plain trees and writers
 
 
-def random_tree(rng: np.random.Generator, *, basis="restricted", n=2, layout=None,
-                notation="chemist", storage="dense", is_complex=False, optional=True,
-                wide=True) -> dict:
+def random_tree(
+    rng: np.random.Generator,
+    *,
+    basis="restricted",
+    n=2,
+    layout=None,
+    notation="chemist",
+    storage="dense",
+    is_complex=False,
+    optional=True,
+    wide=True,
+) -> dict:
     """A valid file's content as format.md lists it; arrays as NumPy arrays.
 
     ``two_electron`` holds its array under ``"array"`` beside its attributes;
@@ -438,13 +454,28 @@ def random_tree(rng: np.random.Generator, *, basis="restricted", n=2, layout=Non
         tree["core_energy_parts"] = {"nuclear_repulsion": nuclear, "frozen_core": frozen}
         tree["two_electron"]["interaction"] = "coulomb"
         tree["references"] = [
-            {"label": "hf", "method": "hf", "energy": float(rng.standard_normal()),
-             "occupation": {"alpha": [0], "beta": [0] if n > 1 else []}, "tolerance": 1e-8},
-            {"label": "fci", "method": "fci", "energy": float(rng.standard_normal()),
-             "electrons": {"alpha": 1, "beta": 0}, "two_s": 1, "irrep": 0, "root": 0},
+            {
+                "label": "hf",
+                "method": "hf",
+                "energy": float(rng.standard_normal()),
+                "occupation": {"alpha": [0], "beta": [0] if n > 1 else []},
+                "tolerance": 1e-8,
+            },
+            {
+                "label": "fci",
+                "method": "fci",
+                "energy": float(rng.standard_normal()),
+                "electrons": {"alpha": 1, "beta": 0},
+                "two_s": 1,
+                "irrep": 0,
+                "root": 0,
+            },
         ]
         tree["provenance"] = {
-            "producer": "foundation tests", "seed": 7, "exact": True, "scale": 0.1,
+            "producer": "foundation tests",
+            "seed": 7,
+            "exact": True,
+            "scale": 0.1,
             "history": [{"step": "generated", "n": n}, {"step": "checked", "passed": True}],
         }
     return tree
@@ -458,16 +489,24 @@ def hamiltonian_from_tree(tree: dict) -> Hamiltonian:
     for entry in tree.get("references", []):
         occ = entry.get("occupation")
         el = entry.get("electrons")
-        refs.append(Reference(
-            label=entry["label"], method=entry["method"], energy=entry["energy"],
-            electrons=None if el is None else Electrons(el["alpha"], el["beta"]),
-            two_s=entry.get("two_s"), irrep=entry.get("irrep"), root=entry.get("root"),
-            occupation=None if occ is None else (tuple(occ["alpha"]), tuple(occ["beta"])),
-            tolerance=entry.get("tolerance"),
-        ))
+        refs.append(
+            Reference(
+                label=entry["label"],
+                method=entry["method"],
+                energy=entry["energy"],
+                electrons=None if el is None else Electrons(el["alpha"], el["beta"]),
+                two_s=entry.get("two_s"),
+                irrep=entry.get("irrep"),
+                root=entry.get("root"),
+                occupation=None if occ is None else (tuple(occ["alpha"]), tuple(occ["beta"])),
+                tolerance=entry.get("tolerance"),
+            )
+        )
     return Hamiltonian(
         orbitals=Orbitals(
-            count=orb["count"], basis=orb["basis"], spin_layout=orb.get("spin_layout"),
+            count=orb["count"],
+            basis=orb["basis"],
+            spin_layout=orb.get("spin_layout"),
             point_group=orb.get("point_group"),
             irreps=None if "irreps" not in orb else tuple(orb["irreps"]),
             canonical=orb.get("canonical"),
@@ -476,8 +515,11 @@ def hamiltonian_from_tree(tree: dict) -> Hamiltonian:
         core_energy=tree["core_energy"],
         one_electron=np.asarray(tree["one_electron"]),
         two_electron=TwoElectron(
-            np.asarray(two["array"]), notation=two["notation"], storage=two["storage"],
-            interaction=two.get("interaction"), antisymmetrized=two.get("antisymmetrized"),
+            np.asarray(two["array"]),
+            notation=two["notation"],
+            storage=two["storage"],
+            interaction=two.get("interaction"),
+            antisymmetrized=two.get("antisymmetrized"),
         ),
         core_energy_parts=tree.get("core_energy_parts"),
         references=tuple(refs),
@@ -653,7 +695,11 @@ def recipe_fingerprint(path: Path) -> str:
     two_node = doc["two_electron"]
     two = _decode_json_array(two_node)
     dense = dense_chemist_slow(
-        two, orb["basis"], orb["count"], two_node["notation"], two_node["storage"],
+        two,
+        orb["basis"],
+        orb["count"],
+        two_node["notation"],
+        two_node["storage"],
         antisymmetrized=bool(two_node.get("antisymmetrized")),
     )
     digest.update(dense.astype("<c16" if dense.dtype.kind == "c" else "<f8").tobytes(order="C"))

@@ -133,10 +133,12 @@ def test_h2_hartree_fock_energy_matches_szabo_and_ostlund_from_the_file_and_the_
 def _two_by_two_ci(h2) -> float:
     """Full CI of minimal-basis H2: the singlet sigma_g^2, sigma_u^2 pair, coupled by K12."""
     h, g = h2.one_electron, h2.two_electron.array
-    matrix = np.array([
-        [2 * h[0, 0] + g[0, 0, 0, 0], g[0, 1, 0, 1]],
-        [g[1, 0, 1, 0], 2 * h[1, 1] + g[1, 1, 1, 1]],
-    ])
+    matrix = np.array(
+        [
+            [2 * h[0, 0] + g[0, 0, 0, 0], g[0, 1, 0, 1]],
+            [g[1, 0, 1, 0], 2 * h[1, 1] + g[1, 1, 1, 1]],
+        ]
+    )
     return h2.core_energy + float(np.linalg.eigvalsh(matrix)[0])
 
 
@@ -162,11 +164,9 @@ def test_h2_irreps_are_those_of_d2h_and_the_one_electron_matrix_respects_them(h2
 
 
 def test_the_build_command_writes_the_same_h2_file(runner, in_tmp, h2):
-    result = runner.invoke(main, ["build", "out.h5", "--atom", H2, "--unit", "bohr",
-                                  "--basis", "sto-3g"])
+    result = runner.invoke(main, ["build", "out.h5", "--atom", H2, "--unit", "bohr", "--basis", "sto-3g"])
     assert result.exit_code == 0, result.output
-    printed = re.fullmatch(r"wrote out\.h5: 2 restricted orbitals, hf (\S+), fci (\S+)\n",
-                           result.stdout)
+    printed = re.fullmatch(r"wrote out\.h5: 2 restricted orbitals, hf (\S+), fci (\S+)\n", result.stdout)
     assert printed, result.stdout
     assert is_close_to(float(printed[1]), SZABO_E_HF, 4)
     assert is_close_to(float(printed[2]), SZABO_E_FCI, 4)
@@ -213,18 +213,15 @@ def test_an_xyz_file_gives_the_same_molecule_as_inline_geometry(tmp_path, runner
     assert from_file.provenance["geometry"] == "; ".join(lines)
     assert from_file.core_energy == pytest.approx(inline.core_energy, abs=1e-12)
     assert from_file.reference("hf").energy == pytest.approx(inline.reference("hf").energy, abs=1e-10)
-    result = runner.invoke(main, ["build", str(tmp_path / "out.json"), "--atom", str(xyz),
-                                  "--basis", "sto-3g"])
+    result = runner.invoke(main, ["build", str(tmp_path / "out.json"), "--atom", str(xyz), "--basis", "sto-3g"])
     assert result.exit_code == 0, result.output
-    assert load(tmp_path / "out.json").reference("hf").energy == pytest.approx(
-        inline.reference("hf").energy, abs=1e-10)
+    assert load(tmp_path / "out.json").reference("hf").energy == pytest.approx(inline.reference("hf").energy, abs=1e-10)
 
 
 def test_an_xyz_file_listing_fewer_atoms_than_it_declares_is_refused(tmp_path, runner):
     xyz = tmp_path / "bad.xyz"
     xyz.write_text("3\ncomment\nH 0 0 0\nH 0 0 0.74\n")
-    result = runner.invoke(main, ["build", str(tmp_path / "out.h5"), "--atom", str(xyz),
-                                  "--basis", "sto-3g"])
+    result = runner.invoke(main, ["build", str(tmp_path / "out.h5"), "--atom", str(xyz), "--basis", "sto-3g"])
     assert result.exit_code == 2
     assert "bad.xyz" in result.stderr and "3 atoms" in result.stderr
     assert not (tmp_path / "out.h5").exists()
@@ -249,8 +246,7 @@ def test_an_active_space_puts_the_frozen_core_energy_in_core_energy(water_active
     assert ham.n == 5 and (ham.electrons.alpha, ham.electrons.beta) == (3, 3)
     parts = ham.core_energy_parts
     assert set(parts) == {"nuclear_repulsion", "frozen_core"}
-    assert parts["nuclear_repulsion"] + parts["frozen_core"] == pytest.approx(
-        ham.core_energy, rel=0, abs=1e-12)
+    assert parts["nuclear_repulsion"] + parts["frozen_core"] == pytest.approx(ham.core_energy, rel=0, abs=1e-12)
     mol = gto.M(atom=WATER, basis="sto-3g", verbose=0)
     assert parts["nuclear_repulsion"] == pytest.approx(mol.energy_nuc(), abs=1e-10)
     full = scf.RHF(mol)
@@ -260,7 +256,8 @@ def test_an_active_space_puts_the_frozen_core_energy_in_core_energy(water_active
     core = full.mo_coeff[:, :2]
     density = 2 * core @ core.T
     frozen = np.einsum("ij,ji", density, full.get_hcore()) + 0.5 * np.einsum(
-        "ij,ji", density, full.get_veff(mol, density))
+        "ij,ji", density, full.get_veff(mol, density)
+    )
     assert parts["frozen_core"] == pytest.approx(frozen, abs=1e-7)
     # the frozen orbitals' mean field is in one_electron: the active-space determinant
     # reproduces the full-space RHF energy
@@ -276,8 +273,7 @@ def test_the_active_space_fci_reference_is_the_casci_energy(water_active):
     ham = water_active
     solver = fci.direct_spin1.FCI()
     solver.conv_tol = 1e-12
-    energy, _ = solver.kernel(ham.one_electron, ham.two_electron.array, ham.n, (3, 3),
-                              ecore=ham.core_energy)
+    energy, _ = solver.kernel(ham.one_electron, ham.two_electron.array, ham.n, (3, 3), ecore=ham.core_energy)
     reference = ham.reference("fci")
     assert reference.energy == pytest.approx(energy, abs=1e-8)
     assert reference.energy < ham.reference("hf").energy
@@ -299,8 +295,7 @@ def test_irreps_are_present_for_a_symmetric_molecule_and_the_integrals_obey_them
 
 
 def test_the_build_command_takes_an_active_space(runner, in_tmp):
-    result = runner.invoke(main, ["build", "water.json", "--atom", WATER, "--basis", "sto-3g",
-                                  "--active", "6,5"])
+    result = runner.invoke(main, ["build", "water.json", "--atom", WATER, "--basis", "sto-3g", "--active", "6,5"])
     assert result.exit_code == 0, result.output
     ham = load("water.json")
     assert ham.n == 5 and ham.core_energy_parts["frozen_core"] < 0
@@ -309,8 +304,7 @@ def test_the_build_command_takes_an_active_space(runner, in_tmp):
 
 @pytest.mark.parametrize("active", ["7,5", "6,9", "six,five"])
 def test_an_impossible_active_space_is_refused(runner, in_tmp, active):
-    result = runner.invoke(main, ["build", "water.h5", "--atom", WATER, "--basis", "sto-3g",
-                                  "--active", active])
+    result = runner.invoke(main, ["build", "water.h5", "--atom", WATER, "--basis", "sto-3g", "--active", active])
     assert result.exit_code == 2
     assert "active" in result.stderr
     assert not (in_tmp / "water.h5").exists()

@@ -115,8 +115,9 @@ def test_every_subcommand_help_shows_an_example(runner, name, flag):
     result = runner.invoke(main, [name, flag])
     assert result.exit_code == 0, result.output
     assert "Example" in result.stdout
-    example_lines = [line.strip() for line in result.stdout.splitlines()
-                     if line.strip().startswith(f"integrity {name}")]
+    example_lines = [
+        line.strip() for line in result.stdout.splitlines() if line.strip().startswith(f"integrity {name}")
+    ]
     assert example_lines, f"no 'integrity {name} ...' example in:\n{result.stdout}"
 
 

@@ -107,7 +107,9 @@ def test_complex_chemist_and_physicist_arrays_of_one_hamiltonian_share_a_fingerp
     rng = np.random.default_rng(seed)
     chem = random_values(rng, (n, n, n, n), is_complex=True)
     base = Hamiltonian(
-        orbitals=Orbitals(count=n, basis="restricted"), electrons=Electrons(1, 1), core_energy=0.5,
+        orbitals=Orbitals(count=n, basis="restricted"),
+        electrons=Electrons(1, 1),
+        core_energy=0.5,
         one_electron=random_values(rng, (n, n), is_complex=True),
         two_electron=TwoElectron(chem, notation="chemist"),
     )
@@ -154,23 +156,23 @@ def _ulp(array: np.ndarray, index) -> np.ndarray:
 
 CHANGES = {
     "count": lambda h: h.replace(
-        orbitals=Orbitals(count=3, basis="restricted"), one_electron=np.pad(h.one_electron, (0, 1)),
+        orbitals=Orbitals(count=3, basis="restricted"),
+        one_electron=np.pad(h.one_electron, (0, 1)),
         two_electron=TwoElectron(np.pad(h.two_electron.array, (0, 1)), notation="chemist"),
     ),
     "basis": lambda h: h.replace(orbitals=Orbitals(2, "spin-orbital", spin_layout="interleaved")),
     "spin_layout": lambda h: h.replace(orbitals=Orbitals(2, "spin-orbital", spin_layout="blocked")),
-    "point_group": lambda h: h.replace(orbitals=Orbitals(2, "restricted", point_group="C2h",
-                                                         irreps=(0, 1))),
+    "point_group": lambda h: h.replace(orbitals=Orbitals(2, "restricted", point_group="C2h", irreps=(0, 1))),
     "point_group absent": lambda h: h.replace(orbitals=Orbitals(2, "restricted", irreps=(0, 1))),
-    "irreps": lambda h: h.replace(orbitals=Orbitals(2, "restricted", point_group="C2v",
-                                                    irreps=(1, 0))),
+    "irreps": lambda h: h.replace(orbitals=Orbitals(2, "restricted", point_group="C2v", irreps=(1, 0))),
     "irreps absent": lambda h: h.replace(orbitals=Orbitals(2, "restricted", point_group="C2v")),
     "electrons.alpha": lambda h: h.replace(electrons=Electrons(2, 1)),
     "electrons.beta": lambda h: h.replace(electrons=Electrons(1, 0)),
     "core_energy": lambda h: h.replace(core_energy=float(_next(h.core_energy))),
     "one_electron element": lambda h: h.replace(one_electron=_ulp(h.one_electron, (1, 0))),
-    "two_electron element": lambda h: h.replace(two_electron=TwoElectron(
-        _ulp(h.two_electron.array, (0, 1, 1, 0)), notation="chemist")),
+    "two_electron element": lambda h: h.replace(
+        two_electron=TwoElectron(_ulp(h.two_electron.array, (0, 1, 1, 0)), notation="chemist")
+    ),
 }
 
 
@@ -206,10 +208,15 @@ def test_one_ulp_in_any_stored_element_changes_the_fingerprint(ham, data):
         changed = ham.replace(one_electron=changed_array)
     else:
         two = ham.two_electron
-        changed = ham.replace(two_electron=TwoElectron(
-            changed_array, notation=two.notation, storage=two.storage,
-            interaction=two.interaction, antisymmetrized=two.antisymmetrized,
-        ))
+        changed = ham.replace(
+            two_electron=TwoElectron(
+                changed_array,
+                notation=two.notation,
+                storage=two.storage,
+                interaction=two.interaction,
+                antisymmetrized=two.antisymmetrized,
+            )
+        )
     assert fingerprint(changed) != fingerprint(ham)
 
 
@@ -226,10 +233,13 @@ def test_title_references_provenance_and_annotations_are_not_in_the_fingerprint(
         provenance={"producer": "someone else", "history": [{"step": "renamed"}]},
         core_energy_parts={"nuclear_repulsion": 1.0},
         checksum="sha256:" + "0" * 64,
-        orbitals=Orbitals(orb.count, orb.basis, orb.spin_layout, orb.point_group, orb.irreps,
-                          canonical),
-        two_electron=TwoElectron(two.array, notation=two.notation, storage=two.storage,
-                                 interaction=interaction, antisymmetrized=two.antisymmetrized),
+        orbitals=Orbitals(orb.count, orb.basis, orb.spin_layout, orb.point_group, orb.irreps, canonical),
+        two_electron=TwoElectron(
+            two.array,
+            notation=two.notation,
+            storage=two.storage,
+            interaction=interaction,
+            antisymmetrized=two.antisymmetrized,
+        ),
     )
     assert fingerprint(annotated) == fingerprint(ham)
-

@@ -52,8 +52,9 @@ def trees(draw):
     notation = draw(st.sampled_from(["chemist", "physicist"]))
     storage = draw(st.sampled_from(allowed_storages(basis, notation, is_complex)))
     rng = np.random.default_rng(draw(st.integers(0, 2**32 - 1)))
-    tree = random_tree(rng, basis=basis, n=n, notation=notation, storage=storage,
-                       is_complex=is_complex, optional=draw(st.booleans()))
+    tree = random_tree(
+        rng, basis=basis, n=n, notation=notation, storage=storage, is_complex=is_complex, optional=draw(st.booleans())
+    )
     if basis == "spin-orbital":
         tree["orbitals"]["spin_layout"] = draw(st.sampled_from(["interleaved", "blocked"]))
         if notation == "physicist" and draw(st.booleans()):
@@ -61,14 +62,16 @@ def trees(draw):
     return tree
 
 
-hdf5_styles = st.fixed_dictionaries({
-    "strings": st.sampled_from(["vlen", "fixed"]),
-    "booleans": st.sampled_from(["int", "bool"]),
-    "complex_style": st.sampled_from(["native", "compound"]),
-    "byteorder": st.sampled_from(["<", ">"]),
-    "compression": st.sampled_from([None, "gzip", "lzf"]),
-    "track_order": st.sampled_from([None, True]),
-})
+hdf5_styles = st.fixed_dictionaries(
+    {
+        "strings": st.sampled_from(["vlen", "fixed"]),
+        "booleans": st.sampled_from(["int", "bool"]),
+        "complex_style": st.sampled_from(["native", "compound"]),
+        "byteorder": st.sampled_from(["<", ">"]),
+        "compression": st.sampled_from([None, "gzip", "lzf"]),
+        "track_order": st.sampled_from([None, True]),
+    }
+)
 
 
 @FILE_SETTINGS
@@ -105,9 +108,7 @@ def _attribute_types(path: Path) -> set:
 
 
 @pytest.mark.parametrize("strings", ["fixed", "vlen"])
-def test_text_attributes_stored_fixed_length_or_variable_length_are_read_as_text(
-    tmp_path, rng, strings
-):
+def test_text_attributes_stored_fixed_length_or_variable_length_are_read_as_text(tmp_path, rng, strings):
     tree = random_tree(rng)
     write_plain_hdf5(tree, tmp_path / "h.h5", strings=strings)
     stored = _attribute_types(tmp_path / "h.h5")
@@ -135,9 +136,7 @@ def test_booleans_stored_as_integers_0_and_1_are_read_as_booleans(tmp_path, rng)
 
 @pytest.mark.parametrize("style", ["compound", "native"])
 @pytest.mark.parametrize("byteorder", ["<", ">"])
-def test_complex_data_as_a_real_imag_compound_or_h5py_complex_is_read_as_complex128(
-    tmp_path, rng, style, byteorder
-):
+def test_complex_data_as_a_real_imag_compound_or_h5py_complex_is_read_as_complex128(tmp_path, rng, style, byteorder):
     tree = random_tree(rng, n=3, is_complex=True)
     write_plain_hdf5(tree, tmp_path / "h.h5", complex_style=style, byteorder=byteorder)
     with h5py.File(tmp_path / "h.h5", "r") as handle:
@@ -181,8 +180,9 @@ def test_gzip_with_shuffle_and_checksummed_chunks_loads(tmp_path, rng):
         for name in ("one_electron", "two_electron"):
             data, attrs = handle[name][()], dict(handle[name].attrs)
             del handle[name]
-            dataset = handle.create_dataset(name, data=data, chunks=(1,) * (data.ndim - 1) + (2,),
-                                            compression="gzip", shuffle=True, fletcher32=True)
+            dataset = handle.create_dataset(
+                name, data=data, chunks=(1,) * (data.ndim - 1) + (2,), compression="gzip", shuffle=True, fletcher32=True
+            )
             dataset.attrs.update(attrs)
     assert_same_hamiltonian(load(tmp_path / "h.h5"), _expected_h5(tree))
 
@@ -198,11 +198,19 @@ def test_groups_created_without_creation_order_load_with_references_in_name_orde
 
 def test_references_as_subgroups_keep_every_optional_field(tmp_path, rng):
     tree = random_tree(rng, n=3)
-    tree["references"] = [{
-        "label": "excited", "method": "fci", "energy": -2.5, "electrons": {"alpha": 2, "beta": 1},
-        "two_s": 1, "irrep": 3, "root": 2, "occupation": {"alpha": [0, 2], "beta": [1]},
-        "tolerance": 1e-7,
-    }]
+    tree["references"] = [
+        {
+            "label": "excited",
+            "method": "fci",
+            "energy": -2.5,
+            "electrons": {"alpha": 2, "beta": 1},
+            "two_s": 1,
+            "irrep": 3,
+            "root": 2,
+            "occupation": {"alpha": [0, 2], "beta": [1]},
+            "tolerance": 1e-7,
+        }
+    ]
     write_plain_hdf5(tree, tmp_path / "h.h5")
     with h5py.File(tmp_path / "h.h5", "r") as handle:
         assert set(handle["references/excited"]) == {"electrons", "occupation"}
@@ -214,12 +222,12 @@ def test_references_as_subgroups_keep_every_optional_field(tmp_path, rng):
 
 
 @pytest.mark.parametrize("strings", ["fixed", "vlen"])
-def test_provenance_history_as_a_dataset_of_json_strings_is_read_as_its_steps(
-    tmp_path, rng, strings
-):
+def test_provenance_history_as_a_dataset_of_json_strings_is_read_as_its_steps(tmp_path, rng, strings):
     tree = random_tree(rng)
-    steps = [{"step": "convert", "to": "physicist"}, {"step": "pack", "storage": "pairs",
-                                                       "tolerance": 1e-12, "forced": False}]
+    steps = [
+        {"step": "convert", "to": "physicist"},
+        {"step": "pack", "storage": "pairs", "tolerance": 1e-12, "forced": False},
+    ]
     tree["provenance"]["history"] = steps
     write_plain_hdf5(tree, tmp_path / "h.h5", strings=strings)
     with h5py.File(tmp_path / "h.h5", "r") as handle:
@@ -232,8 +240,7 @@ def test_json_irreps_and_occupations_as_plain_lists_or_integer_arrays_load(tmp_p
     doc = json_document(tree)
     write_plain_json(doc, tmp_path / "lists.json", encoded=True)
     doc["orbitals"]["irreps"] = {"shape": [3], "data": tree["orbitals"]["irreps"]}
-    doc["references"][0]["occupation"] = {"alpha": {"shape": [1], "data": [0]},
-                                          "beta": {"shape": [1], "data": [0]}}
+    doc["references"][0]["occupation"] = {"alpha": {"shape": [1], "data": [0]}, "beta": {"shape": [1], "data": [0]}}
     write_plain_json(doc, tmp_path / "arrays.json", encoded=True)
     lists, arrays = load(tmp_path / "lists.json"), load(tmp_path / "arrays.json")
     for ham in (lists, arrays):

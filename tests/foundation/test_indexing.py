@@ -136,8 +136,7 @@ def stored_blocks(draw):
 
 @SETTINGS
 @given(stored_blocks(), st.integers(1, 10_000), st.data())
-def test_slabs_rows_columns_and_exchange_diagonals_read_the_dense_chemist_array(block, budget,
-                                                                                data):
+def test_slabs_rows_columns_and_exchange_diagonals_read_the_dense_chemist_array(block, budget, data):
     n, notation, storage, stored, chem = block
     seen = np.full(chem.shape, np.nan)
     for p0, slab in blocks.chemist_slabs(stored, notation, storage, n, slab_bytes=budget):

@@ -69,8 +69,19 @@ def put(dotted, value):
     return mutate
 
 
-def tree_case(name, mutate, json_field, h5_field, *, tree=None, also=(), error=IntegrityError,
-              containers=("json", "h5"), json_marks=(), h5_marks=()):
+def tree_case(
+    name,
+    mutate,
+    json_field,
+    h5_field,
+    *,
+    tree=None,
+    also=(),
+    error=IntegrityError,
+    containers=("json", "h5"),
+    json_marks=(),
+    h5_marks=(),
+):
     """A fault expressible in both containers: mutate a random valid tree, write it plainly."""
     options = {"optional": True} | (tree or {})
 
@@ -123,12 +134,23 @@ def h5_case(name, fragments, edit, *, error=IntegrityError, marks=()):
 
 
 # identity and version
-tree_case("unknown format_version", put("format_version", 2), "format_version", "/@format_version",
-          error=ContainerError, also=("2",))
-tree_case("another format", put("format", "chemistry.molecule"), "format", "/@format",
-          error=ContainerError, also=("chemistry.molecule",))
-tree_case("energy unit not hartree", put("energy_unit", "eV"), "energy_unit", "/@energy_unit",
-          also=("eV",))
+tree_case(
+    "unknown format_version",
+    put("format_version", 2),
+    "format_version",
+    "/@format_version",
+    error=ContainerError,
+    also=("2",),
+)
+tree_case(
+    "another format",
+    put("format", "chemistry.molecule"),
+    "format",
+    "/@format",
+    error=ContainerError,
+    also=("chemistry.molecule",),
+)
+tree_case("energy unit not hartree", put("energy_unit", "eV"), "energy_unit", "/@energy_unit", also=("eV",))
 # required fields
 for dotted, location in [
     ("format_version", "/@format_version"),
@@ -142,25 +164,35 @@ for dotted, location in [
     ("two_electron.notation", "/two_electron@notation"),
 ]:
     tree_case(f"missing {dotted}", delete(dotted), dotted, location)
-tree_case("missing two_electron", delete("two_electron"), "two_electron", "/two_electron",
-          also=("missing",))
+tree_case("missing two_electron", delete("two_electron"), "two_electron", "/two_electron", also=("missing",))
 # wrong types
-tree_case("count as a string", put("orbitals.count", "2"), "orbitals.count", "/orbitals@count",
-          also=("'2'",))
-tree_case("electrons as a float", put("electrons.alpha", 1.0), "electrons.alpha",
-          "/electrons@alpha", also=("1.0",))
-tree_case("core energy as a boolean", put("core_energy", True), "core_energy", "/@core_energy",
-          also=("True",))
-tree_case("reference energy as a string", put("references.0.energy", "low"),
-          "references[0].energy", "/references/hf@energy", also=("low",))
+tree_case("count as a string", put("orbitals.count", "2"), "orbitals.count", "/orbitals@count", also=("'2'",))
+tree_case("electrons as a float", put("electrons.alpha", 1.0), "electrons.alpha", "/electrons@alpha", also=("1.0",))
+tree_case("core energy as a boolean", put("core_energy", True), "core_energy", "/@core_energy", also=("True",))
+tree_case(
+    "reference energy as a string",
+    put("references.0.energy", "low"),
+    "references[0].energy",
+    "/references/hf@energy",
+    also=("low",),
+)
 # values out of range
 tree_case("zero orbitals", put("orbitals.count", 0), "orbitals.count", "/orbitals@count")
-tree_case("negative electrons", put("electrons.beta", -1), "electrons.beta", "/electrons@beta",
-          also=("-1",))
-tree_case("negative tolerance", put("references.0.tolerance", -1e-6), "references[0].tolerance",
-          "/references/hf@tolerance", also=("-1e-06",))
-tree_case("irrep of a reference beyond 7", put("references.1.irrep", 8), "references[1].irrep",
-          "/references/fci@irrep", also=("8",))
+tree_case("negative electrons", put("electrons.beta", -1), "electrons.beta", "/electrons@beta", also=("-1",))
+tree_case(
+    "negative tolerance",
+    put("references.0.tolerance", -1e-6),
+    "references[0].tolerance",
+    "/references/hf@tolerance",
+    also=("-1e-06",),
+)
+tree_case(
+    "irrep of a reference beyond 7",
+    put("references.1.irrep", 8),
+    "references[1].irrep",
+    "/references/fci@irrep",
+    also=("8",),
+)
 # bad enumerations
 for dotted, value, location in [
     ("orbitals.basis", "general", "/orbitals@basis"),
@@ -170,83 +202,191 @@ for dotted, value, location in [
     ("two_electron.interaction", "yukawa", "/two_electron@interaction"),
 ]:
     tree_case(f"{dotted} {value}", put(dotted, value), dotted, location, also=(value,))
-tree_case("spin_layout mixed", put("orbitals.spin_layout", "mixed"), "orbitals.spin_layout",
-          "/orbitals@spin_layout", tree={"basis": "spin-orbital", "n": 2}, also=("mixed",))
+tree_case(
+    "spin_layout mixed",
+    put("orbitals.spin_layout", "mixed"),
+    "orbitals.spin_layout",
+    "/orbitals@spin_layout",
+    tree={"basis": "spin-orbital", "n": 2},
+    also=("mixed",),
+)
 # cross-field rules of the orbitals
-tree_case("spin-orbital without spin_layout", delete("orbitals.spin_layout"),
-          "orbitals.spin_layout", "/orbitals@spin_layout", tree={"basis": "spin-orbital", "n": 2})
-tree_case("restricted with a spin_layout", put("orbitals.spin_layout", "blocked"), "orbitals",
-          "/orbitals", also=("spin_layout",))
-tree_case("odd number of spin orbitals", lambda t: None, "orbitals.count", "/orbitals@count",
-          tree={"basis": "spin-orbital", "n": 3}, also=("even",))
-tree_case("irreps of the wrong length", put("orbitals.irreps", [0, 1, 1]), "orbitals.irreps",
-          "/orbitals/irreps", also=("3",))
-tree_case("irrep beyond the point group", put("orbitals.irreps", [0, 4]), "orbitals.irreps",
-          "irreps", also=("C2v", "4"))
+tree_case(
+    "spin-orbital without spin_layout",
+    delete("orbitals.spin_layout"),
+    "orbitals.spin_layout",
+    "/orbitals@spin_layout",
+    tree={"basis": "spin-orbital", "n": 2},
+)
+tree_case(
+    "restricted with a spin_layout",
+    put("orbitals.spin_layout", "blocked"),
+    "orbitals",
+    "/orbitals",
+    also=("spin_layout",),
+)
+tree_case(
+    "odd number of spin orbitals",
+    lambda t: None,
+    "orbitals.count",
+    "/orbitals@count",
+    tree={"basis": "spin-orbital", "n": 3},
+    also=("even",),
+)
+tree_case(
+    "irreps of the wrong length", put("orbitals.irreps", [0, 1, 1]), "orbitals.irreps", "/orbitals/irreps", also=("3",)
+)
+tree_case(
+    "irrep beyond the point group", put("orbitals.irreps", [0, 4]), "orbitals.irreps", "irreps", also=("C2v", "4")
+)
 # shapes, storage and notation
-tree_case("one_electron of the wrong shape", lambda t: t.update(one_electron=np.zeros((3, 3))),
-          "one_electron", "/one_electron", also=("(2, 2)", "(3, 3)"))
-tree_case("pairs of the wrong shape",
-          lambda t: t["two_electron"].update(array=np.zeros((16, 16))), "two_electron",
-          "/two_electron", tree={"n": 4, "storage": "pairs"},
-          also=("storage 'pairs' needs shape (10, 10) for 4 orbitals, got (16, 16)",))
-tree_case("unique of the wrong length",
-          lambda t: t["two_electron"].update(array=np.zeros(5)), "two_electron", "/two_electron",
-          tree={"n": 2, "storage": "unique"}, also=("(6,)", "(5,)"))
-tree_case("packed physicist", put("two_electron.notation", "physicist"), "two_electron.notation",
-          "/two_electron@notation", tree={"storage": "pairs"}, also=("chemist",))
-tree_case("packed complex",
-          lambda t: t["two_electron"].update(array=t["two_electron"]["array"] * (1 + 1j)),
-          "two_electron.storage", "/two_electron@storage", tree={"storage": "pairs"},
-          also=("complex",))
-tree_case("unique unrestricted", lambda t: t["two_electron"].update(storage="unique"),
-          "two_electron.storage", "/two_electron@storage",
-          tree={"basis": "unrestricted", "storage": "pairs"}, also=("unique",))
-tree_case("antisymmetrized chemist", put("two_electron.antisymmetrized", True),
-          "two_electron.notation", "/two_electron@notation",
-          tree={"basis": "spin-orbital", "n": 2}, also=("physicist",))
+tree_case(
+    "one_electron of the wrong shape",
+    lambda t: t.update(one_electron=np.zeros((3, 3))),
+    "one_electron",
+    "/one_electron",
+    also=("(2, 2)", "(3, 3)"),
+)
+tree_case(
+    "pairs of the wrong shape",
+    lambda t: t["two_electron"].update(array=np.zeros((16, 16))),
+    "two_electron",
+    "/two_electron",
+    tree={"n": 4, "storage": "pairs"},
+    also=("storage 'pairs' needs shape (10, 10) for 4 orbitals, got (16, 16)",),
+)
+tree_case(
+    "unique of the wrong length",
+    lambda t: t["two_electron"].update(array=np.zeros(5)),
+    "two_electron",
+    "/two_electron",
+    tree={"n": 2, "storage": "unique"},
+    also=("(6,)", "(5,)"),
+)
+tree_case(
+    "packed physicist",
+    put("two_electron.notation", "physicist"),
+    "two_electron.notation",
+    "/two_electron@notation",
+    tree={"storage": "pairs"},
+    also=("chemist",),
+)
+tree_case(
+    "packed complex",
+    lambda t: t["two_electron"].update(array=t["two_electron"]["array"] * (1 + 1j)),
+    "two_electron.storage",
+    "/two_electron@storage",
+    tree={"storage": "pairs"},
+    also=("complex",),
+)
+tree_case(
+    "unique unrestricted",
+    lambda t: t["two_electron"].update(storage="unique"),
+    "two_electron.storage",
+    "/two_electron@storage",
+    tree={"basis": "unrestricted", "storage": "pairs"},
+    also=("unique",),
+)
+tree_case(
+    "antisymmetrized chemist",
+    put("two_electron.antisymmetrized", True),
+    "two_electron.notation",
+    "/two_electron@notation",
+    tree={"basis": "spin-orbital", "n": 2},
+    also=("physicist",),
+)
 # references and checksum
-tree_case("duplicate reference labels", put("references.1.label", "hf"), "references[1].label",
-          "", also=("hf", "unique"), containers=("json",))
-tree_case("occupation index out of range", put("references.0.occupation.alpha", [5]),
-          "references[0].occupation.alpha", "/references/hf/occupation/alpha", also=("5",))
-tree_case("an orbital occupied twice", put("references.0.occupation.alpha", [0, 0]),
-          "references[0].occupation.alpha", "/references/hf/occupation/alpha", also=("unique",))
-tree_case("a negative occupation index", put("references.0.occupation.alpha", [-1]),
-          "references[0].occupation.alpha", "/references/hf/occupation/alpha",
-          also=("minimum 0",))
-tree_case("an irrep beyond 7", put("orbitals.irreps", [0, 9]), "orbitals.irreps",
-          "/orbitals/irreps", also=("maximum 7",))
-tree_case("malformed checksum", put("checksum", "sha256:XYZ"), "checksum", "/@checksum",
-          also=("sha256:XYZ",))
-tree_case("a misspelt key", lambda t: t.update(core_enrgy=t["core_energy"]), "core_enrgy",
-          "/@core_enrgy", also=("unexpected",))
+tree_case(
+    "duplicate reference labels",
+    put("references.1.label", "hf"),
+    "references[1].label",
+    "",
+    also=("hf", "unique"),
+    containers=("json",),
+)
+tree_case(
+    "occupation index out of range",
+    put("references.0.occupation.alpha", [5]),
+    "references[0].occupation.alpha",
+    "/references/hf/occupation/alpha",
+    also=("5",),
+)
+tree_case(
+    "an orbital occupied twice",
+    put("references.0.occupation.alpha", [0, 0]),
+    "references[0].occupation.alpha",
+    "/references/hf/occupation/alpha",
+    also=("unique",),
+)
+tree_case(
+    "a negative occupation index",
+    put("references.0.occupation.alpha", [-1]),
+    "references[0].occupation.alpha",
+    "/references/hf/occupation/alpha",
+    also=("minimum 0",),
+)
+tree_case(
+    "an irrep beyond 7", put("orbitals.irreps", [0, 9]), "orbitals.irreps", "/orbitals/irreps", also=("maximum 7",)
+)
+tree_case("malformed checksum", put("checksum", "sha256:XYZ"), "checksum", "/@checksum", also=("sha256:XYZ",))
+tree_case(
+    "a misspelt key",
+    lambda t: t.update(core_enrgy=t["core_energy"]),
+    "core_enrgy",
+    "/@core_enrgy",
+    also=("unexpected",),
+)
 
 # JSON only
 # with indent=1, line 4 is ' "energy_unit": "hartree",'; without its comma the parser stops at
 # the next key, line 5, column 2
-json_case("invalid JSON syntax", ["line 5, column 2", "delimiter"],
-          text=lambda s: s.replace('"hartree",', '"hartree"', 1), error=ContainerError)
-json_case("a NaN token", ["NaN"], text=lambda s: re.sub(r'"core_energy": [^,]+', '"core_energy": NaN', s),
-          error=ContainerError)
-json_case("an Infinity token", ["Infinity"],
-          text=lambda s: re.sub(r'"energy": [^,\n]+', '"energy": -Infinity', s, count=1),
-          error=ContainerError)
-json_case("a duplicate key", ["core_energy", "twice"], error=ContainerError,
-          text=lambda s: s.replace('"core_energy":', '"core_energy": 1.5, "core_energy":', 1))
-json_case("data shorter than the shape", ["one_electron.data", "4", "3"],
-          doc=lambda d: d["one_electron"]["data"].pop())
-json_case("a string among the numbers", ["two_electron.data[5]", "'x'"],
-          doc=lambda d: d["two_electron"]["data"].__setitem__(5, "x"))
-json_case("complex values with only 'real'", ["one_electron", "imag"],
-          doc=lambda d: d["one_electron"].update(real=d["one_electron"].pop("data")))
-json_case("complex values with 'real' and 'data'", ["two_electron", "real"],
-          doc=lambda d: d["two_electron"].update(real=list(d["two_electron"]["data"])))
-json_case("a shape that is not a list", ["one_electron.shape"],
-          doc=lambda d: d["one_electron"].update(shape="2x2"))
+json_case(
+    "invalid JSON syntax",
+    ["line 5, column 2", "delimiter"],
+    text=lambda s: s.replace('"hartree",', '"hartree"', 1),
+    error=ContainerError,
+)
+json_case(
+    "a NaN token",
+    ["NaN"],
+    text=lambda s: re.sub(r'"core_energy": [^,]+', '"core_energy": NaN', s),
+    error=ContainerError,
+)
+json_case(
+    "an Infinity token",
+    ["Infinity"],
+    text=lambda s: re.sub(r'"energy": [^,\n]+', '"energy": -Infinity', s, count=1),
+    error=ContainerError,
+)
+json_case(
+    "a duplicate key",
+    ["core_energy", "twice"],
+    error=ContainerError,
+    text=lambda s: s.replace('"core_energy":', '"core_energy": 1.5, "core_energy":', 1),
+)
+json_case("data shorter than the shape", ["one_electron.data", "4", "3"], doc=lambda d: d["one_electron"]["data"].pop())
+json_case(
+    "a string among the numbers",
+    ["two_electron.data[5]", "'x'"],
+    doc=lambda d: d["two_electron"]["data"].__setitem__(5, "x"),
+)
+json_case(
+    "complex values with only 'real'",
+    ["one_electron", "imag"],
+    doc=lambda d: d["one_electron"].update(real=d["one_electron"].pop("data")),
+)
+json_case(
+    "complex values with 'real' and 'data'",
+    ["two_electron", "real"],
+    doc=lambda d: d["two_electron"].update(real=list(d["two_electron"]["data"])),
+)
+json_case("a shape that is not a list", ["one_electron.shape"], doc=lambda d: d["one_electron"].update(shape="2x2"))
 json_case("a top-level list", ["object"], text=lambda s: f"[{s}]", error=ContainerError)
-json_case("a million orbitals declared in JSON", ["one_electron", "1000000000000"],
-          doc=lambda d: d["one_electron"].update(shape=[10**6, 10**6]))
+json_case(
+    "a million orbitals declared in JSON",
+    ["one_electron", "1000000000000"],
+    doc=lambda d: d["one_electron"].update(shape=[10**6, 10**6]),
+)
 
 
 # HDF5 only
@@ -261,22 +401,35 @@ def _replace_dataset(name, values):
     return edit
 
 
-h5_case("a float32 dataset", ["/one_electron", "float32"],
-        _replace_dataset("one_electron", lambda rng: rng.standard_normal((2, 2)).astype(np.float32)))
-h5_case("an integer dataset", ["/two_electron", "int64"],
-        _replace_dataset("two_electron", lambda rng: rng.integers(0, 9, size=(2, 2, 2, 2))))
-h5_case("a text file named .h5", ["not an HDF5 file"],
-        lambda path, rng: path.write_text("format: integrity.hamiltonian\n" * 20),
-        error=ContainerError)
-h5_case("an empty file", ["not an HDF5 file"], lambda path, rng: path.write_bytes(b""),
-        error=ContainerError)
-h5_case("a truncated file", ["truncated"],
-        lambda path, rng: path.write_bytes(path.read_bytes()[: path.stat().st_size // 2]),
-        error=ContainerError)
-h5_case("a missing two_electron dataset", ["/two_electron", "missing"],
-        lambda path, rng: _delete(path, "two_electron"))
-h5_case("a missing occupation dataset", ["/references/hf/occupation", "beta"],
-        lambda path, rng: _delete(path, "references/hf/occupation/beta"))
+h5_case(
+    "a float32 dataset",
+    ["/one_electron", "float32"],
+    _replace_dataset("one_electron", lambda rng: rng.standard_normal((2, 2)).astype(np.float32)),
+)
+h5_case(
+    "an integer dataset",
+    ["/two_electron", "int64"],
+    _replace_dataset("two_electron", lambda rng: rng.integers(0, 9, size=(2, 2, 2, 2))),
+)
+h5_case(
+    "a text file named .h5",
+    ["not an HDF5 file"],
+    lambda path, rng: path.write_text("format: integrity.hamiltonian\n" * 20),
+    error=ContainerError,
+)
+h5_case("an empty file", ["not an HDF5 file"], lambda path, rng: path.write_bytes(b""), error=ContainerError)
+h5_case(
+    "a truncated file",
+    ["truncated"],
+    lambda path, rng: path.write_bytes(path.read_bytes()[: path.stat().st_size // 2]),
+    error=ContainerError,
+)
+h5_case("a missing two_electron dataset", ["/two_electron", "missing"], lambda path, rng: _delete(path, "two_electron"))
+h5_case(
+    "a missing occupation dataset",
+    ["/references/hf/occupation", "beta"],
+    lambda path, rng: _delete(path, "references/hf/occupation/beta"),
+)
 
 
 def _delete(path, name):
@@ -290,16 +443,19 @@ def _declare_a_million_orbitals(path, rng):
     with h5py.File(path, "r+") as handle:
         handle["orbitals"].attrs["count"] = n
         del handle["orbitals/irreps"]
-        for name, shape, chunks in (("one_electron", (n, n), (64, 64)),
-                                    ("two_electron", (n, n, n, n), (1, 1, 8, 8))):
+        for name, shape, chunks in (("one_electron", (n, n), (64, 64)), ("two_electron", (n, n, n, n), (1, 1, 8, 8))):
             attrs = dict(handle[name].attrs)
             del handle[name]
             handle.create_dataset(name, shape=shape, dtype="<f8", chunks=chunks).attrs.update(attrs)
         del handle["references"]
 
 
-h5_case("a million orbitals", ["/one_electron", "(1000000, 1000000)", "TiB", "--memory"],
-        _declare_a_million_orbitals, error=BudgetError)
+h5_case(
+    "a million orbitals",
+    ["/one_electron", "(1000000, 1000000)", "TiB", "--memory"],
+    _declare_a_million_orbitals,
+    error=BudgetError,
+)
 
 
 def _params():
@@ -323,7 +479,7 @@ def test_a_malformed_file_is_refused_naming_the_field(tmp_path, rng, case, runne
     assert isinstance(error, case.error), f"{type(error).__name__} is not a {case.error.__name__}"
     message = str(error)
     assert message.startswith(f"{path}: "), message
-    body = message[len(f"{path}: "):]
+    body = message[len(f"{path}: ") :]
     for fragment in case.fragments:
         assert fragment in body, f"{fragment!r} not in {body!r}"
     assert "\n" not in message
@@ -370,12 +526,12 @@ def test_a_genuine_file_beyond_the_memory_budget_is_refused_naming_the_size(tmp_
     [
         pytest.param(put("orbitals.irreps", [0, 4]), "/orbitals/irreps", id="irrep beyond C2v"),
         pytest.param(put("orbitals.irreps", [0, 9]), "/orbitals/irreps", id="irrep beyond 7"),
-        pytest.param(put("references.0.occupation.alpha", [-1]),
-                     "/references/hf/occupation/alpha", id="negative occupation"),
+        pytest.param(
+            put("references.0.occupation.alpha", [-1]), "/references/hf/occupation/alpha", id="negative occupation"
+        ),
     ],
 )
-def test_an_element_of_a_small_hdf5_dataset_is_located_in_that_dataset(tmp_path, rng, mutate,
-                                                                       location):
+def test_an_element_of_a_small_hdf5_dataset_is_located_in_that_dataset(tmp_path, rng, mutate, location):
     tree = random_tree(rng)
     mutate(tree)
     write_plain_hdf5(tree, tmp_path / "h.h5")

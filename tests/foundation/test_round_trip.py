@@ -181,9 +181,7 @@ def _small(**fields) -> Hamiltonian:
         ("provenance list value", "json"),
     ],
 )
-def test_what_the_model_accepts_is_saved_and_read_back_or_refused_with_an_integrity_error(
-    tmp_path, case, container
-):
+def test_what_the_model_accepts_is_saved_and_read_back_or_refused_with_an_integrity_error(tmp_path, case, container):
     fields = {
         "label with a slash": {"references": (Reference("a/b", "hf", -1.0),)},
         "label dot": {"references": (Reference(".", "hf", -1.0),)},
@@ -213,20 +211,22 @@ def test_provenance_history_steps_given_as_text_come_back_as_the_same_text(tmp_p
     assert load(tmp_path / f"h.{container}").provenance["history"] == steps
 
 
-
 @pytest.mark.parametrize("container", ["h5", "json"])
 @pytest.mark.parametrize(
     "fields",
     [
         pytest.param({"orbitals": Orbitals(count=np.int64(1), basis="restricted")}, id="count"),
-        pytest.param({"references": (Reference("hf", "hf", -1.0, two_s=np.int64(0), root=np.int64(0)),)},
-                     id="two_s and root"),
-        pytest.param({"references": (Reference("hf", "hf", -1.0,
-                                               occupation=(tuple(np.flatnonzero([1])), ())),)},
-                     id="occupation from numpy"),
-        pytest.param({"references": (Reference("hf", "hf", -1.0,
-                                               electrons=Electrons(np.int64(1), 0)),)},
-                     id="reference electrons"),
+        pytest.param(
+            {"references": (Reference("hf", "hf", -1.0, two_s=np.int64(0), root=np.int64(0)),)}, id="two_s and root"
+        ),
+        pytest.param(
+            {"references": (Reference("hf", "hf", -1.0, occupation=(tuple(np.flatnonzero([1])), ())),)},
+            id="occupation from numpy",
+        ),
+        pytest.param(
+            {"references": (Reference("hf", "hf", -1.0, electrons=Electrons(np.int64(1), 0)),)},
+            id="reference electrons",
+        ),
         pytest.param({"references": (Reference("hf", "hf", np.float32(-1.5)),)}, id="float32 energy"),
         pytest.param({"provenance": {"frozen_core_orbitals": np.int64(2)}}, id="provenance integer"),
     ],

@@ -62,9 +62,7 @@ def test_an_interrupted_write_leaves_no_file_under_the_name_and_no_temporary_fil
 
 
 @pytest.mark.parametrize("container", CONTAINERS)
-def test_an_existing_file_is_unchanged_after_a_failed_forced_overwrite(
-    tmp_path, rng, monkeypatch, container
-):
+def test_an_existing_file_is_unchanged_after_a_failed_forced_overwrite(tmp_path, rng, monkeypatch, container):
     target = tmp_path / f"out.{container}"
     save(_hamiltonian(rng, title="old"), target)
     before = target.read_bytes()
@@ -93,8 +91,7 @@ def test_an_existing_file_is_never_overwritten_without_force(tmp_path, rng, cont
 
 
 @pytest.mark.parametrize("container", CONTAINERS)
-def test_a_file_that_appears_during_the_write_is_not_replaced(tmp_path, rng, monkeypatch,
-                                                              container):
+def test_a_file_that_appears_during_the_write_is_not_replaced(tmp_path, rng, monkeypatch, container):
     target = tmp_path / f"out.{container}"
     module = hdf5 if container == "h5" else jsonfile
     original = module._write_array
@@ -127,8 +124,7 @@ def test_an_unknown_extension_is_refused_before_writing(tmp_path, rng):
 
 
 def _npz(path, rng, n=2, core_energy=None, **extra):
-    arrays = {"one_electron": rng.standard_normal((n, n)),
-              "two_electron": rng.standard_normal((n, n, n, n))} | extra
+    arrays = {"one_electron": rng.standard_normal((n, n)), "two_electron": rng.standard_normal((n, n, n, n))} | extra
     if core_energy is not None:
         arrays["core_energy"] = np.float64(core_energy)
     np.savez(path, **arrays)
@@ -148,8 +144,7 @@ def _wrap_args(skip=None, **more):
 
 def test_wrap_writes_the_arrays_unchanged_with_the_stated_conventions(runner, in_tmp, rng):
     arrays = _npz("ints.npz", rng, n=3)
-    result = runner.invoke(main, ["wrap", "ints.npz", "out.h5",
-                                  *_wrap_args(**{"--core-energy": "0.75"})])
+    result = runner.invoke(main, ["wrap", "ints.npz", "out.h5", *_wrap_args(**{"--core-energy": "0.75"})])
     assert result.exit_code == 0, result.output
     assert result.stdout.strip() == "wrote out.h5"
     ham = load("out.h5")
@@ -175,8 +170,7 @@ def test_wrap_requires_a_core_energy_from_the_archive_or_the_command_line(runner
     assert "core_energy" in result.stderr and "--core-energy" in result.stderr
     assert len(result.stderr.strip().splitlines()) == 1
     assert not (in_tmp / "out.h5").exists()
-    assert runner.invoke(main, ["wrap", "ints.npz", "zero.h5",
-                                *_wrap_args(**{"--core-energy": "0"})]).exit_code == 0
+    assert runner.invoke(main, ["wrap", "ints.npz", "zero.h5", *_wrap_args(**{"--core-energy": "0"})]).exit_code == 0
     assert load("zero.h5").core_energy == 0.0
 
 
@@ -184,8 +178,7 @@ def test_wrap_takes_the_core_energy_from_the_archive_but_not_twice(runner, in_tm
     _npz("ints.npz", rng, core_energy=-1.25)
     assert runner.invoke(main, ["wrap", "ints.npz", "out.json", *_wrap_args()]).exit_code == 0
     assert load("out.json").core_energy == -1.25
-    twice = runner.invoke(main, ["wrap", "ints.npz", "twice.json",
-                                 *_wrap_args(**{"--core-energy": "1"})])
+    twice = runner.invoke(main, ["wrap", "ints.npz", "twice.json", *_wrap_args(**{"--core-energy": "1"})])
     assert twice.exit_code == 2 and "core_energy" in twice.stderr
     assert not (in_tmp / "twice.json").exists()
 
@@ -198,27 +191,25 @@ def test_wrap_refuses_an_archive_key_it_would_ignore(runner, in_tmp, rng):
 
 def test_wrap_of_spin_orbitals_requires_a_spin_layout(runner, in_tmp, rng):
     _npz("ints.npz", rng, core_energy=0.0)
-    result = runner.invoke(main, ["wrap", "ints.npz", "out.h5",
-                                  *_wrap_args(**{"--basis": "spin-orbital"})])
+    result = runner.invoke(main, ["wrap", "ints.npz", "out.h5", *_wrap_args(**{"--basis": "spin-orbital"})])
     assert result.exit_code == 2 and "spin_layout" in result.stderr
-    ok = runner.invoke(main, ["wrap", "ints.npz", "out.h5",
-                              *_wrap_args(**{"--basis": "spin-orbital", "--spin-layout": "blocked"})])
+    ok = runner.invoke(
+        main, ["wrap", "ints.npz", "out.h5", *_wrap_args(**{"--basis": "spin-orbital", "--spin-layout": "blocked"})]
+    )
     assert ok.exit_code == 0, ok.output
     assert load("out.h5").orbitals.spin_layout == "blocked"
 
 
 def test_wrap_never_overwrites_without_force(runner, in_tmp, rng):
     _npz("ints.npz", rng, core_energy=0.0)
-    assert runner.invoke(main, ["wrap", "ints.npz", "out.h5", *_wrap_args(),
-                                "--title", "first"]).exit_code == 0
+    assert runner.invoke(main, ["wrap", "ints.npz", "out.h5", *_wrap_args(), "--title", "first"]).exit_code == 0
     before = (in_tmp / "out.h5").read_bytes()
     again = runner.invoke(main, ["wrap", "ints.npz", "out.h5", *_wrap_args(), "--title", "second"])
     assert again.exit_code == 2
     assert "out.h5" in again.stderr and "exists" in again.stderr and "--force" in again.stderr
     assert len(again.stderr.strip().splitlines()) == 1
     assert (in_tmp / "out.h5").read_bytes() == before
-    forced = runner.invoke(main, ["wrap", "ints.npz", "out.h5", *_wrap_args(), "--title", "second",
-                                  "--force"])
+    forced = runner.invoke(main, ["wrap", "ints.npz", "out.h5", *_wrap_args(), "--title", "second", "--force"])
     assert forced.exit_code == 0
     assert load("out.h5").title == "second"
     assert sorted(p.name for p in in_tmp.iterdir()) == ["ints.npz", "out.h5"]
@@ -227,12 +218,10 @@ def test_wrap_never_overwrites_without_force(runner, in_tmp, rng):
 def test_build_never_overwrites_without_force(runner, in_tmp, rng, one_openmp_thread):
     write_plain_json(random_tree(rng), in_tmp / "h2.json")
     before = (in_tmp / "h2.json").read_bytes()
-    result = runner.invoke(main, ["build", "h2.json", "--atom", "H 0 0 0; H 0 0 0.74",
-                                  "--basis", "sto-3g"])
+    result = runner.invoke(main, ["build", "h2.json", "--atom", "H 0 0 0; H 0 0 0.74", "--basis", "sto-3g"])
     assert result.exit_code == 2 and "exists" in result.stderr and "--force" in result.stderr
     assert (in_tmp / "h2.json").read_bytes() == before
-    forced = runner.invoke(main, ["build", "h2.json", "--atom", "H 0 0 0; H 0 0 0.74",
-                                  "--basis", "sto-3g", "--force"])
+    forced = runner.invoke(main, ["build", "h2.json", "--atom", "H 0 0 0; H 0 0 0.74", "--basis", "sto-3g", "--force"])
     assert forced.exit_code == 0, forced.output
     assert load("h2.json").title.startswith("H2 sto-3g")
 
