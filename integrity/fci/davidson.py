@@ -151,9 +151,19 @@ def _explicit(matvec, diagonal, nroots, project, dtype) -> DavidsonResult:
     return DavidsonResult(theta[:k], x.T, 1, norms, np.ones(k, dtype=bool))
 
 
-def davidson(matvec, diagonal, nroots: int, *, tol: float = 1e-8, max_iter: int = 200,
-             max_space: int | None = None, guesses=None, project=None, dtype=np.float64,
-             explicit_limit: int = EXPLICIT_LIMIT) -> DavidsonResult:
+def davidson(
+    matvec,
+    diagonal,
+    nroots: int,
+    *,
+    tol: float = 1e-8,
+    max_iter: int = 200,
+    max_space: int | None = None,
+    guesses=None,
+    project=None,
+    dtype=np.float64,
+    explicit_limit: int = EXPLICIT_LIMIT,
+) -> DavidsonResult:
     """Lowest ``nroots`` eigenpairs of the Hermitian operator ``matvec``.
 
     Fewer roots come back when the (projected) space has fewer dimensions.
@@ -170,8 +180,8 @@ def davidson(matvec, diagonal, nroots: int, *, tol: float = 1e-8, max_iter: int 
     max_space = max(default_max_space(nroots) if max_space is None else max_space, 2 * nroots)
     start = _start_vectors(diagonal, min(n, 2 * nroots), project, dtype, guesses)
     nroots = min(nroots, len(start))
-    basis = np.empty((max_space, n), dtype=dtype)     # row j is basis vector j
-    images = np.empty_like(basis)                      # images[j] = H basis[j]
+    basis = np.empty((max_space, n), dtype=dtype)  # row j is basis vector j
+    images = np.empty_like(basis)  # images[j] = H basis[j]
     size = len(start)
     basis[:size] = start
     del start
@@ -206,7 +216,7 @@ def davidson(matvec, diagonal, nroots: int, *, tol: float = 1e-8, max_iter: int 
             basis[: keep.shape[1]] = matmul(keep.T, basis[:size])
             images[: keep.shape[1]] = matmul(keep.T, images[:size])
             small = keep.conj().T @ small @ keep
-            y = np.eye(keep.shape[1], k, dtype=dtype)      # the Ritz vectors lead the new basis
+            y = np.eye(keep.shape[1], k, dtype=dtype)  # the Ritz vectors lead the new basis
             size = keep.shape[1]
         previous = y
         del ritz_images

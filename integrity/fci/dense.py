@@ -68,8 +68,9 @@ class DenseResult:
     irreps: np.ndarray | None
 
 
-def determinant_list(m: int, n_electrons: int, *, layout: str = "blocked", n_alpha=None,
-                     irreps=None, irrep=None) -> np.ndarray:
+def determinant_list(
+    m: int, n_electrons: int, *, layout: str = "blocked", n_alpha=None, irreps=None, irrep=None
+) -> np.ndarray:
     """Sorted spin-orbital strings of ``n_electrons`` in ``m``, optionally filtered.
 
     ``n_alpha`` keeps determinants with that many alpha electrons (``layout``
@@ -120,8 +121,7 @@ def hamiltonian_matrix(h, eri, dets: np.ndarray) -> np.ndarray:
     occ = ((dets[:, None] >> np.arange(m)) & 1).astype(np.float64)
     coulomb = np.einsum("ppqq->pq", eri)
     exchange = np.einsum("pqqp->pq", eri)
-    out[np.arange(d), np.arange(d)] = occ @ np.diag(h) + 0.5 * np.einsum(
-        "ip,pq,iq->i", occ, coulomb - exchange, occ)
+    out[np.arange(d), np.arange(d)] = occ @ np.diag(h) + 0.5 * np.einsum("ip,pq,iq->i", occ, coulomb - exchange, occ)
     one_body_mean = np.einsum("pqrr->pqr", eri) - np.einsum("prrq->pqr", eri)
     for start in range(0, d, 256):
         rows = np.arange(start, min(d, start + 256))
@@ -156,8 +156,7 @@ def dense_spin_square(dets: np.ndarray, m: int, layout: str) -> np.ndarray:
     [[1.0, 1.0], [1.0, 1.0]]
     """
     n = m // 2
-    pairs = list(zip(alpha_index(n, layout).tolist(), beta_index(n, layout).tolist(),
-                     strict=True))
+    pairs = list(zip(alpha_index(n, layout).tolist(), beta_index(n, layout).tolist(), strict=True))
     raised: dict[int, int] = {}
     entries = []
     for column, det in enumerate(np.asarray(dets).tolist()):
@@ -170,8 +169,7 @@ def dense_spin_square(dets: np.ndarray, m: int, layout: str) -> np.ndarray:
     for row, column, value in entries:
         plus[row, column] += value
     alpha_mask = sum(1 << a for a, _ in pairs)
-    sz = np.array([0.5 * (2 * (d & alpha_mask).bit_count() - d.bit_count())
-                   for d in np.asarray(dets).tolist()])
+    sz = np.array([0.5 * (2 * (d & alpha_mask).bit_count() - d.bit_count()) for d in np.asarray(dets).tolist()])
     return plus.T @ plus + np.diag(sz * sz + sz)
 
 
@@ -179,8 +177,7 @@ def _sector(basis, n_alpha, n_beta, n_electrons):
     if basis == "spin-orbital":
         if n_electrons is None:
             if n_alpha is None or n_beta is None:
-                raise FieldError("n_electrons", "spin-orbital input needs n_electrons "
-                                                "(or n_alpha and n_beta)")
+                raise FieldError("n_electrons", "spin-orbital input needs n_electrons (or n_alpha and n_beta)")
             n_electrons = n_alpha + n_beta
         return n_electrons, n_alpha
     if n_alpha is None or n_beta is None:
@@ -188,9 +185,21 @@ def _sector(basis, n_alpha, n_beta, n_electrons):
     return n_alpha + n_beta, n_alpha
 
 
-def dense_fci(basis: str, h1, eri, ecore: float = 0.0, *, n_alpha=None, n_beta=None,
-              n_electrons=None, spin_layout=None, irreps=None, irrep=None, nroots=None,
-              max_determinants: int = MAX_DENSE_DETERMINANTS) -> DenseResult:
+def dense_fci(
+    basis: str,
+    h1,
+    eri,
+    ecore: float = 0.0,
+    *,
+    n_alpha=None,
+    n_beta=None,
+    n_electrons=None,
+    spin_layout=None,
+    irreps=None,
+    irrep=None,
+    nroots=None,
+    max_determinants: int = MAX_DENSE_DETERMINANTS,
+) -> DenseResult:
     """Diagonalise the full Hamiltonian of one sector (all roots unless ``nroots``).
 
     Restricted and unrestricted input fix ``(n_alpha, n_beta)``; spin-orbital input
@@ -207,10 +216,13 @@ def dense_fci(basis: str, h1, eri, ecore: float = 0.0, *, n_alpha=None, n_beta=N
     dets = determinant_list(m, total, layout=layout, n_alpha=alpha, irreps=irreps, irrep=irrep)
     if len(dets) > max_determinants:
         itemsize = np.dtype(h.dtype).itemsize
-        raise BudgetError("determinants", f"the dense reference takes at most {max_determinants} "
-                                          f"determinants, this space has {len(dets)}",
-                          needed=3 * len(dets) ** 2 * itemsize,
-                          budget=3 * max_determinants ** 2 * itemsize, size=len(dets))
+        raise BudgetError(
+            "determinants",
+            f"the dense reference takes at most {max_determinants} determinants, this space has {len(dets)}",
+            needed=3 * len(dets) ** 2 * itemsize,
+            budget=3 * max_determinants**2 * itemsize,
+            size=len(dets),
+        )
     if len(dets) == 0:
         raise FieldError("irrep", "no determinant of the requested sector and irrep exists")
     matrix = hamiltonian_matrix(h, g, dets)
@@ -224,7 +236,8 @@ def dense_fci(basis: str, h1, eri, ecore: float = 0.0, *, n_alpha=None, n_beta=N
     labels = None
     if irreps is not None:
         det_irreps = string_irreps(dets, spin_orbital_irreps(irreps, layout))
-        weights = np.array([[np.sum(np.abs(vectors[det_irreps == g_, k]) ** 2) for g_ in range(8)]
-                            for k in range(vectors.shape[1])])
+        weights = np.array(
+            [[np.sum(np.abs(vectors[det_irreps == g_, k]) ** 2) for g_ in range(8)] for k in range(vectors.shape[1])]
+        )
         labels = np.argmax(weights, axis=1)
     return DenseResult(energies + ecore, vectors, dets, s_squared, labels)

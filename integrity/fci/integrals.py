@@ -78,8 +78,9 @@ def _deviation(a: np.ndarray, b: np.ndarray) -> float:
 def _require_symmetry(field: str, what: str, a, b, scale: float) -> None:
     deviation = _deviation(a, b)
     if deviation > HERMITIAN_TOLERANCE * scale:
-        raise FieldError(field, f"{what} must hold for a Hermitian Hamiltonian; "
-                                f"largest deviation found {deviation:.3e}")
+        raise FieldError(
+            field, f"{what} must hold for a Hermitian Hamiltonian; largest deviation found {deviation:.3e}"
+        )
 
 
 def check_arrays(basis: str, h1, eri) -> tuple[np.ndarray, np.ndarray, int]:
@@ -104,30 +105,25 @@ def check_arrays(basis: str, h1, eri) -> tuple[np.ndarray, np.ndarray, int]:
     eri = np.ascontiguousarray(eri, dtype=dtype)
     lead = () if basis != "unrestricted" else (2,)
     if h1.ndim != len(lead) + 2 or h1.shape[-1] != h1.shape[-2] or h1.shape[:-2] != lead:
-        raise FieldError("one_electron", f"basis {basis!r} needs shape {(*lead, 'n', 'n')}, "
-                                         f"got {h1.shape}")
+        raise FieldError("one_electron", f"basis {basis!r} needs shape {(*lead, 'n', 'n')}, got {h1.shape}")
     n = h1.shape[-1]
     want = (3, n, n, n, n) if basis == "unrestricted" else (n, n, n, n)
     if eri.shape != want:
-        raise FieldError("two_electron", f"basis {basis!r} with n = {n} needs shape {want}, "
-                                         f"got {eri.shape}")
+        raise FieldError("two_electron", f"basis {basis!r} with n = {n} needs shape {want}, got {eri.shape}")
     if basis == "spin-orbital" and n % 2:
         raise FieldError("one_electron", f"spin-orbital count must be even, got {n}")
     for field, arr in (("one_electron", h1), ("two_electron", eri)):
         if not np.all(np.isfinite(arr)):
             raise FieldError(field, "holds NaN or infinite values")
-    scale = max(1.0, float(np.max(np.abs(eri), initial=0.0)), float(np.max(np.abs(h1),
-                                                                             initial=0.0)))
+    scale = max(1.0, float(np.max(np.abs(eri), initial=0.0)), float(np.max(np.abs(h1), initial=0.0)))
     blocks_h = h1 if basis == "unrestricted" else h1[None]
     for h in blocks_h:
         _require_symmetry("one_electron", "h[p, q] = conj(h[q, p])", h, h.conj().T, scale)
     blocks_g = eri if basis == "unrestricted" else eri[None]
     for index, g in enumerate(blocks_g):
-        _require_symmetry("two_electron", "(pq|rs) = conj((qp|sr))", g,
-                          g.transpose(1, 0, 3, 2).conj(), scale)
+        _require_symmetry("two_electron", "(pq|rs) = conj((qp|sr))", g, g.transpose(1, 0, 3, 2).conj(), scale)
         if basis != "unrestricted" or index != 1:
-            _require_symmetry("two_electron", "(pq|rs) = (rs|pq)", g,
-                              g.transpose(2, 3, 0, 1), scale)
+            _require_symmetry("two_electron", "(pq|rs) = (rs|pq)", g, g.transpose(2, 3, 0, 1), scale)
     return h1, eri, n
 
 
@@ -143,8 +139,7 @@ def pair_symmetric(eri: np.ndarray) -> bool:
         return False
     scale = max(1.0, float(np.max(np.abs(eri), initial=0.0)))
     tol = 1e-12 * scale
-    return (_deviation(eri, eri.transpose(1, 0, 2, 3)) <= tol
-            and _deviation(eri, eri.transpose(0, 1, 3, 2)) <= tol)
+    return _deviation(eri, eri.transpose(1, 0, 2, 3)) <= tol and _deviation(eri, eri.transpose(0, 1, 3, 2)) <= tol
 
 
 def spin_orbital_integrals(basis: str, h1, eri, layout: str = "blocked"):
@@ -198,9 +193,8 @@ def sz_coupling(h, eri, layout: str) -> float:
     m = h.shape[0]
     spin = spin_labels(m, layout)
     dh = spin[:, None] - spin[None, :]
-    dg = (dh[:, :, None, None] + dh[None, None, :, :])
-    coupling = max(float(np.max(np.abs(h[dh != 0]), initial=0.0)),
-                   float(np.max(np.abs(eri[dg != 0]), initial=0.0)))
+    dg = dh[:, :, None, None] + dh[None, None, :, :]
+    coupling = max(float(np.max(np.abs(h[dh != 0]), initial=0.0)), float(np.max(np.abs(eri[dg != 0]), initial=0.0)))
     return coupling
 
 
@@ -225,13 +219,10 @@ def spin_blocks(h, eri, layout: str):
         return None, "the one-electron array couples alpha and beta spin orbitals"
     pair_mixed = mixed[:, :, None, None] | mixed[None, None, :, :]
     if np.any(eri[pair_mixed] != 0):
-        return None, ("the two-electron array has elements (pq|rs) with p, q (or r, s) of "
-                      "different spin")
+        return None, ("the two-electron array has elements (pq|rs) with p, q (or r, s) of different spin")
     a, b = alpha_index(n, layout), beta_index(n, layout)
     eri_ab = eri[np.ix_(a, a, b, b)]
     if np.any(eri[np.ix_(b, b, a, a)] != np.transpose(eri_ab, (2, 3, 0, 1))):
-        return None, ("the (beta beta|alpha alpha) block is not the transpose of "
-                      "(alpha alpha|beta beta)")
-    blocks = (h[np.ix_(a, a)], h[np.ix_(b, b)], eri[np.ix_(a, a, a, a)], eri_ab,
-              eri[np.ix_(b, b, b, b)])
+        return None, ("the (beta beta|alpha alpha) block is not the transpose of (alpha alpha|beta beta)")
+    blocks = (h[np.ix_(a, a)], h[np.ix_(b, b)], eri[np.ix_(a, a, a, a)], eri_ab, eri[np.ix_(b, b, b, b)])
     return blocks, None

@@ -29,8 +29,14 @@ def matmul(a, b, out=None):
     cols = b.shape[-1] if b.ndim == 2 else 1
     if rows * inner * cols >= SMALL_PRODUCT:
         return np.matmul(a, b, out=out)
-    spec = ("ij" if a.ndim == 2 else "j") + "," + ("jk" if b.ndim == 2 else "j") + "->" + \
-        ("i" if a.ndim == 2 else "") + ("k" if b.ndim == 2 else "")
+    spec = (
+        ("ij" if a.ndim == 2 else "j")
+        + ","
+        + ("jk" if b.ndim == 2 else "j")
+        + "->"
+        + ("i" if a.ndim == 2 else "")
+        + ("k" if b.ndim == 2 else "")
+    )
     if out is None:
         return np.einsum(spec, a, b)
     return np.einsum(spec, a, b, out=out)

@@ -44,9 +44,18 @@ def _davidson_bytes(ndet: int, nroots: int, itemsize: int) -> int:
     return (2 * default_max_space(nroots) + 4 * nroots + 2) * ndet * itemsize
 
 
-def two_string_memory(n: int, n_alpha: int, n_beta: int, *, nroots: int = 1,
-                      itemsize: int = 8, packed: bool = True, ndet: int | None = None,
-                      budget: int | None = None, block: int = DEFAULT_BLOCK) -> MemoryEstimate:
+def two_string_memory(
+    n: int,
+    n_alpha: int,
+    n_beta: int,
+    *,
+    nroots: int = 1,
+    itemsize: int = 8,
+    packed: bool = True,
+    ndet: int | None = None,
+    budget: int | None = None,
+    block: int = DEFAULT_BLOCK,
+) -> MemoryEstimate:
     """Estimate for restricted or unrestricted orbitals; ``ndet`` is the searched dimension.
 
     With a ``budget`` the beta block is shrunk (down to one string) until the
@@ -75,16 +84,16 @@ def two_string_memory(n: int, n_alpha: int, n_beta: int, *, nroots: int = 1,
     return MemoryEstimate(sum(parts.values()), parts, block, ndet)
 
 
-def spin_orbital_memory(m: int, n_electrons: int, ndet: int, n_intermediate: int, *,
-                        nroots: int = 1, itemsize: int = 8, block: int = 4096) -> MemoryEstimate:
+def spin_orbital_memory(
+    m: int, n_electrons: int, ndet: int, n_intermediate: int, *, nroots: int = 1, itemsize: int = 8, block: int = 4096
+) -> MemoryEstimate:
     """Estimate for the one-string spin-orbital sigma over ``ndet`` determinants."""
     entries = n_intermediate * n_electrons * (m - n_electrons + 1)
     block = max(1, min(block, n_intermediate))
     parts = {
         "davidson": _davidson_bytes(ndet, nroots, itemsize),
         "tables": 7 * 8 * entries + 8 * (ndet + n_intermediate) * (m + 2),
-        "block scratch": 2 * m * m * block * itemsize
-        + 4 * entries * block // max(1, n_intermediate) * 8,
+        "block scratch": 2 * m * m * block * itemsize + 4 * entries * block // max(1, n_intermediate) * 8,
         "integrals": 4 * m**4 * itemsize,
         "sigma vectors": 4 * ndet * itemsize,
     }
@@ -113,13 +122,23 @@ def check_budget(estimate: MemoryEstimate, budget: int) -> None:
             f"{estimate.total / 2**20:.1f} MiB (largest part: {largest}, "
             f"{estimate.parts[largest] / 2**20:.1f} MiB) but the budget is "
             f"{budget / 2**20:.1f} MiB",
-            needed=estimate.total, budget=budget, size=estimate.determinants,
+            needed=estimate.total,
+            budget=budget,
+            size=estimate.determinants,
         )
 
 
-def estimate_memory(basis: str, n_orbitals: int, *, n_alpha=None, n_beta=None,
-                    n_electrons=None, nroots: int = 1, complex_values: bool = False,
-                    sz_conserved: bool = True) -> int:
+def estimate_memory(
+    basis: str,
+    n_orbitals: int,
+    *,
+    n_alpha=None,
+    n_beta=None,
+    n_electrons=None,
+    nroots: int = 1,
+    complex_values: bool = False,
+    sz_conserved: bool = True,
+) -> int:
     """Bytes a native solve of this size needs (before any irrep restriction).
 
     ``n_orbitals`` counts spatial orbitals for "restricted"/"unrestricted" and spin
@@ -134,11 +153,11 @@ def estimate_memory(basis: str, n_orbitals: int, *, n_alpha=None, n_beta=None,
             if n_electrons is None:
                 raise FieldError("n_electrons", "give n_alpha and n_beta, or n_electrons")
             n_alpha, n_beta = (n_electrons + 1) // 2, n_electrons // 2
-        return two_string_memory(n_orbitals, n_alpha, n_beta, nroots=nroots, itemsize=itemsize,
-                                 packed=not complex_values).total
+        return two_string_memory(
+            n_orbitals, n_alpha, n_beta, nroots=nroots, itemsize=itemsize, packed=not complex_values
+        ).total
     if basis != "spin-orbital":
-        raise FieldError("basis",
-                         f"expected restricted, unrestricted or spin-orbital, got {basis!r}")
+        raise FieldError("basis", f"expected restricted, unrestricted or spin-orbital, got {basis!r}")
     if n_electrons is None:
         if n_alpha is None or n_beta is None:
             raise FieldError("n_electrons", "give n_electrons (or n_alpha and n_beta)")
@@ -149,9 +168,9 @@ def estimate_memory(basis: str, n_orbitals: int, *, n_alpha=None, n_beta=None,
             n_alpha = (n_electrons + 1) // 2
         n_beta = n_electrons - n_alpha
         ndet = comb(n, n_alpha) * comb(n, n_beta)
-        near = sum(comb(n, a) * comb(n, n_electrons - a)
-                   for a in (n_alpha - 1, n_alpha, n_alpha + 1) if 0 <= a <= n_electrons)
+        near = sum(
+            comb(n, a) * comb(n, n_electrons - a) for a in (n_alpha - 1, n_alpha, n_alpha + 1) if 0 <= a <= n_electrons
+        )
     else:
         ndet = near = comb(n_orbitals, n_electrons)
-    return spin_orbital_memory(n_orbitals, n_electrons, ndet, near, nroots=nroots,
-                               itemsize=itemsize).total
+    return spin_orbital_memory(n_orbitals, n_electrons, ndet, near, nroots=nroots, itemsize=itemsize).total

@@ -51,8 +51,7 @@ def _unpack_pairs(pair_matrix: np.ndarray, n: int) -> np.ndarray:
     return pair_matrix[index[:, :, None, None], index[None, None, :, :]]
 
 
-def random_restricted(n: int, rng: np.random.Generator, *, scale: float = 1.0,
-                      spread: float = 0.0):
+def random_restricted(n: int, rng: np.random.Generator, *, scale: float = 1.0, spread: float = 0.0):
     """Random real ``(h1, eri)`` with 8-fold symmetry; ``eri`` as a PSD pair matrix.
 
     ``spread`` adds orbital energies ``linspace(-spread, spread, n)`` to the
@@ -71,8 +70,7 @@ def random_restricted(n: int, rng: np.random.Generator, *, scale: float = 1.0,
     return h, _unpack_pairs(factor @ factor.T / npair, n)
 
 
-def random_unrestricted(n: int, rng: np.random.Generator, *, scale: float = 1.0,
-                        spread: float = 0.0):
+def random_unrestricted(n: int, rng: np.random.Generator, *, scale: float = 1.0, spread: float = 0.0):
     """Random real unrestricted ``(h1, eri)`` of shapes (2, n, n) and (3, n, n, n, n).
 
     The alpha-beta block is symmetric within each pair but not under ``pq <-> rs``.
@@ -120,6 +118,5 @@ def restrict_to_irreps(h, eri, irreps):
     """
     g = np.asarray(irreps)
     h = np.where(g[:, None] == g[None, :], h, 0.0)
-    allowed = (g[:, None, None, None] ^ g[None, :, None, None] ^ g[None, None, :, None]
-               ^ g[None, None, None, :]) == 0
+    allowed = (g[:, None, None, None] ^ g[None, :, None, None] ^ g[None, None, :, None] ^ g[None, None, None, :]) == 0
     return h, np.where(allowed, eri, 0.0)

@@ -80,9 +80,19 @@ def _irrep_selection(labels: np.ndarray, irrep):
     return keep
 
 
-def two_string_problem(basis: str, h1, eri, n_alpha: int, n_beta: int, *, irreps=None,
-                       irrep=None, parity=None, nroots: int = 1,
-                       budget: int | None = None) -> Problem:
+def two_string_problem(
+    basis: str,
+    h1,
+    eri,
+    n_alpha: int,
+    n_beta: int,
+    *,
+    irreps=None,
+    irrep=None,
+    parity=None,
+    nroots: int = 1,
+    budget: int | None = None,
+) -> Problem:
     """Restricted or unrestricted problem in the sector ``(n_alpha, n_beta)``."""
     n = h1.shape[-1]
     if basis == "restricted":
@@ -95,21 +105,21 @@ def two_string_problem(basis: str, h1, eri, n_alpha: int, n_beta: int, *, irreps
     packed = dtype == np.float64 and pair_symmetric(gab)
     labels = None
     if irreps is not None:
-        labels = (string_irreps(strings(n, n_alpha), irreps)[:, None]
-                  ^ string_irreps(strings(n, n_beta), irreps)[None, :])
+        labels = (
+            string_irreps(strings(n, n_alpha), irreps)[:, None] ^ string_irreps(strings(n, n_beta), irreps)[None, :]
+        )
     keep = None if labels is None else _irrep_selection(labels, irrep)
     ndet_full = len(strings(n, n_alpha)) * len(strings(n, n_beta))
     ndet = ndet_full if keep is None else len(keep)
-    estimate = two_string_memory(n, n_alpha, n_beta, nroots=nroots,
-                                 itemsize=np.dtype(dtype).itemsize, packed=packed, ndet=ndet,
-                                 budget=budget)
+    estimate = two_string_memory(
+        n, n_alpha, n_beta, nroots=nroots, itemsize=np.dtype(dtype).itemsize, packed=packed, ndet=ndet, budget=budget
+    )
     if budget is not None:
         check_budget(estimate, budget)
     op = build_two_string(ha, hb, gaa, gab, gbb, n_alpha, n_beta, block=estimate.block)
     shape = op.shape
     if parity is not None and (basis != "restricted" or n_alpha != n_beta):
-        raise FieldError("two_s",
-                         "spin-flip parity needs restricted orbitals and n_alpha == n_beta")
+        raise FieldError("two_s", "spin-flip parity needs restricted orbitals and n_alpha == n_beta")
 
     def expand(v):
         if keep is None:
@@ -138,18 +148,21 @@ def two_string_problem(basis: str, h1, eri, n_alpha: int, n_beta: int, *, irreps
     if keep is not None:
         notes.append(f"space restricted to irrep {irrep}: {ndet} of {ndet_full} determinants")
     return Problem(
-        ndet=ndet, dtype=op.dtype, diagonal=compress(op.diagonal), matvec=matvec,
+        ndet=ndet,
+        dtype=op.dtype,
+        diagonal=compress(op.diagonal),
+        matvec=matvec,
         project=project if parity is not None else None,
         spin_square=spin_square if basis == "restricted" else None,
-        det_irreps=None if labels is None else compress(labels), memory=estimate,
+        det_irreps=None if labels is None else compress(labels),
+        memory=estimate,
         notes=tuple(notes),
     )
 
 
 def sz_conserved(h, eri, layout: str) -> bool:
     """True when no element that changes ``S_z`` exceeds ``SZ_TOLERANCE`` (relative)."""
-    scale = max(1.0, float(np.max(np.abs(h), initial=0.0)), float(np.max(np.abs(eri),
-                                                                         initial=0.0)))
+    scale = max(1.0, float(np.max(np.abs(h), initial=0.0)), float(np.max(np.abs(eri), initial=0.0)))
     return sz_coupling(h, eri, layout) <= SZ_TOLERANCE * scale
 
 
@@ -159,8 +172,18 @@ def _has_mixed_pairs(eri, layout: str) -> bool:
     return bool(np.any(eri[mixed]) or np.any(eri[:, :, mixed]))
 
 
-def spin_orbital_problem(h, eri, n_electrons: int, layout: str, *, n_alpha=None, irreps=None,
-                         irrep=None, nroots: int = 1, budget: int | None = None) -> Problem:
+def spin_orbital_problem(
+    h,
+    eri,
+    n_electrons: int,
+    layout: str,
+    *,
+    n_alpha=None,
+    irreps=None,
+    irrep=None,
+    nroots: int = 1,
+    budget: int | None = None,
+) -> Problem:
     """Spin-orbital problem: all ``n_electrons`` strings, or one ``n_alpha`` sector."""
     m = h.shape[0]
     dets = determinant_list(m, n_electrons, layout=layout, n_alpha=n_alpha)
@@ -181,12 +204,10 @@ def spin_orbital_problem(h, eri, n_electrons: int, layout: str, *, n_alpha=None,
         intermediates = intermediate_strings(dets, m)
         near = len(intermediates)
     dtype = np.result_type(h, eri, np.float64)
-    estimate = spin_orbital_memory(m, n_electrons, len(dets), near, nroots=nroots,
-                                   itemsize=np.dtype(dtype).itemsize)
+    estimate = spin_orbital_memory(m, n_electrons, len(dets), near, nroots=nroots, itemsize=np.dtype(dtype).itemsize)
     if budget is not None:
         check_budget(estimate, budget)
-    op = build_spin_orbital(h, eri, n_electrons, dets, intermediates=intermediates,
-                            block=estimate.block)
+    op = build_spin_orbital(h, eri, n_electrons, dets, intermediates=intermediates, block=estimate.block)
     raising = spin_orbital_raising(dets, m, layout)
 
     def matvec(v):
@@ -197,9 +218,15 @@ def spin_orbital_problem(h, eri, n_electrons: int, layout: str, *, n_alpha=None,
 
     notes = []
     if irrep is not None:
-        notes.append(f"space restricted to irrep {irrep}: {len(dets)} of {full_count} "
-                     "determinants")
+        notes.append(f"space restricted to irrep {irrep}: {len(dets)} of {full_count} determinants")
     return Problem(
-        ndet=len(dets), dtype=op.dtype, diagonal=op.diagonal, matvec=matvec, project=None,
-        spin_square=spin_square, det_irreps=labels, memory=estimate, notes=tuple(notes),
+        ndet=len(dets),
+        dtype=op.dtype,
+        diagonal=op.diagonal,
+        matvec=matvec,
+        project=None,
+        spin_square=spin_square,
+        det_irreps=labels,
+        memory=estimate,
+        notes=tuple(notes),
     )

@@ -54,8 +54,9 @@ def _real(field: str, array: np.ndarray) -> np.ndarray:
     if np.iscomplexobj(array):
         if np.any(array.imag != 0):
             largest = float(np.max(np.abs(array.imag)))
-            raise UnsupportedError(field, "pyscf's FCI solvers take real integrals; imaginary "
-                                          f"parts up to {largest:.3e} were found")
+            raise UnsupportedError(
+                field, f"pyscf's FCI solvers take real integrals; imaginary parts up to {largest:.3e} were found"
+            )
         return np.ascontiguousarray(array.real)
     return array
 
@@ -68,8 +69,7 @@ def pyscf_arrays(basis: str, h1, eri, layout: str | None):
         return basis, h1, eri
     blocks, reason = spin_blocks(h1, eri, layout)
     if blocks is None:
-        raise UnsupportedError("two_electron", f"pyscf needs separate alpha and beta blocks: "
-                                               f"{reason}")
+        raise UnsupportedError("two_electron", f"pyscf needs separate alpha and beta blocks: {reason}")
     ha, hb, gaa, gab, gbb = blocks
     if np.array_equal(ha, hb) and np.array_equal(gaa, gbb) and np.array_equal(gaa, gab):
         return "restricted", ha, gaa
@@ -117,8 +117,7 @@ def _spin_rotate(vectors, energies, n, nelec):
         if len(group) < 2:
             continue
         images = [spin_op.contract_ss(vectors[i], n, nelec).ravel() for i in group]
-        matrix = np.array([[vectors[i].ravel() @ images[j] for j in range(len(group))]
-                           for i in range(len(group))])
+        matrix = np.array([[vectors[i].ravel() @ images[j] for j in range(len(group))] for i in range(len(group))])
         _, rotation = np.linalg.eigh(0.5 * (matrix + matrix.T))
         rotated = np.einsum("kij,kl->lij", np.array([vectors[i] for i in group]), rotation)
         for position, i in enumerate(group):
@@ -126,27 +125,38 @@ def _spin_rotate(vectors, energies, n, nelec):
     return vectors
 
 
-def pyscf_states(basis: str, h1, eri, n_alpha: int, n_beta: int, *, need: int, two_s=None,
-                 irreps=None, irrep=None, tol: float = 1e-9,
-                 max_iter: int = 200) -> PyscfStates:
+def pyscf_states(
+    basis: str,
+    h1,
+    eri,
+    n_alpha: int,
+    n_beta: int,
+    *,
+    need: int,
+    two_s=None,
+    irreps=None,
+    irrep=None,
+    tol: float = 1e-9,
+    max_iter: int = 200,
+) -> PyscfStates:
     """The lowest ``need`` states matching ``two_s`` and ``irrep`` (restricted or unrestricted)."""
     n = h1.shape[-1]
     nelec = (n_alpha, n_beta)
     det_irreps = None
     if irreps is not None:
-        det_irreps = (string_irreps(strings(n, n_alpha), irreps)[:, None]
-                      ^ string_irreps(strings(n, n_beta), irreps)[None, :])
+        det_irreps = (
+            string_irreps(strings(n, n_alpha), irreps)[:, None] ^ string_irreps(strings(n, n_beta), irreps)[None, :]
+        )
     ndet = comb(n, n_alpha) * comb(n, n_beta)
     space = ndet if irrep is None else int(np.sum(det_irreps == irrep))
     if space == 0:
         raise FieldError("irrep", f"no determinant of this sector has irrep {irrep}")
-    selecting = (two_s is not None and basis == "restricted") or \
-                (irrep is not None and basis != "restricted")
+    selecting = (two_s is not None and basis == "restricted") or (irrep is not None and basis != "restricted")
     k = min(space, need + 2 if selecting else need)
     while True:
-        solver, args, kwargs = _solver_and_args(basis, h1, eri, n, nelec, irreps,
-                                                irrep if basis == "restricted" else None,
-                                                tol, max_iter)
+        solver, args, kwargs = _solver_and_args(
+            basis, h1, eri, n, nelec, irreps, irrep if basis == "restricted" else None, tol, max_iter
+        )
         solve_space = space if basis == "restricted" else ndet
         count = min(k, solve_space)
         energies, vectors = solver.kernel(*args, nroots=count, **kwargs)
@@ -167,17 +177,20 @@ def pyscf_states(basis: str, h1, eri, n_alpha: int, n_beta: int, *, need: int, t
             else:
                 s_squared.append(None)
             if det_irreps is not None:
-                weights = np.bincount(det_irreps.ravel(), weights=np.abs(c.ravel()) ** 2,
-                                      minlength=8)
+                weights = np.bincount(det_irreps.ravel(), weights=np.abs(c.ravel()) ** 2, minlength=8)
                 labels.append(dominant_irrep(weights))
             else:
                 labels.append(None)
         chosen = []
         for i in range(len(energies)):
-            spin_ok = (two_s is None or basis != "restricted"
-                       or (abs(s_squared[i] - (two_s_of(s_squared[i]) / 2)
-                               * (two_s_of(s_squared[i]) / 2 + 1)) <= _PURITY
-                           and two_s_of(s_squared[i]) == two_s))
+            spin_ok = (
+                two_s is None
+                or basis != "restricted"
+                or (
+                    abs(s_squared[i] - (two_s_of(s_squared[i]) / 2) * (two_s_of(s_squared[i]) / 2 + 1)) <= _PURITY
+                    and two_s_of(s_squared[i]) == two_s
+                )
+            )
             irrep_ok = irrep is None or labels[i] == irrep
             if spin_ok and irrep_ok:
                 chosen.append(i)
@@ -185,12 +198,17 @@ def pyscf_states(basis: str, h1, eri, n_alpha: int, n_beta: int, *, need: int, t
         if len(chosen) >= need:
             break
         if count >= solve_space:
-            raise FieldError("two_s" if two_s is not None else "root",
-                             f"pyscf found {len(chosen)} matching states among all {count}, "
-                             f"needed {need}")
+            raise FieldError(
+                "two_s" if two_s is not None else "root",
+                f"pyscf found {len(chosen)} matching states among all {count}, needed {need}",
+            )
         k = min(solve_space, 2 * k)
     return PyscfStates(
-        energies=energies[chosen], s_squared=[s_squared[i] for i in chosen],
-        irreps=[labels[i] for i in chosen], residual_norms=np.array(norms)[chosen],
-        converged=converged[chosen], determinants=space, roots_solved=len(energies),
+        energies=energies[chosen],
+        s_squared=[s_squared[i] for i in chosen],
+        irreps=[labels[i] for i in chosen],
+        residual_norms=np.array(norms)[chosen],
+        converged=converged[chosen],
+        determinants=space,
+        roots_solved=len(energies),
     )

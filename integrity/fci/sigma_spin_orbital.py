@@ -86,9 +86,9 @@ def intermediate_strings(determinants: np.ndarray, m: int) -> np.ndarray:
     return np.unique(np.concatenate(reached))
 
 
-def build_spin_orbital(h, eri, n_electrons: int, determinants: np.ndarray, *,
-                       intermediates: np.ndarray | None = None,
-                       block: int = 4096) -> SpinOrbitalHamiltonian:
+def build_spin_orbital(
+    h, eri, n_electrons: int, determinants: np.ndarray, *, intermediates: np.ndarray | None = None, block: int = 4096
+) -> SpinOrbitalHamiltonian:
     """Precompute tables, folded integrals and the exact diagonal.
 
     ``intermediates`` defaults to every string one ``E_pq`` reaches; a caller who
@@ -104,18 +104,25 @@ def build_spin_orbital(h, eri, n_electrons: int, determinants: np.ndarray, *,
     target, p, q, source, sign = excitation_entries(intermediates, determinants, m)
     bounds = np.searchsorted(target, np.arange(0, len(intermediates) + block, block))
     bounds = np.unique(np.minimum(bounds, len(target)))
-    pair_matrix = (folded_pair_matrix(h, eri, n_electrons) if n_electrons
-                   else np.zeros((m * m, m * m), dtype=dtype))
+    pair_matrix = folded_pair_matrix(h, eri, n_electrons) if n_electrons else np.zeros((m * m, m * m), dtype=dtype)
     occ = occupation_matrix(determinants, m)
     coulomb = np.real(np.einsum("ppqq->pq", eri))
     exchange = np.real(np.einsum("pqqp->pq", eri))
-    diagonal = occ @ np.real(np.diag(h)) + 0.5 * np.einsum("ip,pq,iq->i", occ,
-                                                           coulomb - exchange, occ)
+    diagonal = occ @ np.real(np.diag(h)) + 0.5 * np.einsum("ip,pq,iq->i", occ, coulomb - exchange, occ)
     return SpinOrbitalHamiltonian(
-        m=m, n_electrons=n_electrons, dtype=np.dtype(dtype), determinants=determinants,
-        n_intermediate=len(intermediates), entry_target=target, entry_pair=p * m + q,
-        entry_adjoint_pair=q * m + p, entry_source=source, entry_sign=sign.astype(np.float64),
-        block_bounds=bounds, pair_matrix=pair_matrix.astype(dtype), diagonal=diagonal,
+        m=m,
+        n_electrons=n_electrons,
+        dtype=np.dtype(dtype),
+        determinants=determinants,
+        n_intermediate=len(intermediates),
+        entry_target=target,
+        entry_pair=p * m + q,
+        entry_adjoint_pair=q * m + p,
+        entry_source=source,
+        entry_sign=sign.astype(np.float64),
+        block_bounds=bounds,
+        pair_matrix=pair_matrix.astype(dtype),
+        diagonal=diagonal,
     )
 
 
@@ -150,4 +157,3 @@ def sigma_spin_orbital(op: SpinOrbitalHamiltonian, c: np.ndarray) -> np.ndarray:
         if np.iscomplexobj(out):
             out.imag += np.bincount(source, weights=values.imag, minlength=len(out))
     return out
-

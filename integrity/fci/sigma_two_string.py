@@ -92,8 +92,9 @@ def _beta_gather(table: ExcitationTable, nstr: int) -> np.ndarray:
     return gather
 
 
-def build_two_string(h_alpha, h_beta, eri_aa, eri_ab, eri_bb, n_alpha: int, n_beta: int,
-                     *, block: int = DEFAULT_BLOCK) -> TwoStringHamiltonian:
+def build_two_string(
+    h_alpha, h_beta, eri_aa, eri_ab, eri_bb, n_alpha: int, n_beta: int, *, block: int = DEFAULT_BLOCK
+) -> TwoStringHamiltonian:
     """Precompute string Hamiltonians, tables and the pair matrix for :func:`sigma_two_string`.
 
     For restricted orbitals pass the same arrays for alpha and beta and
@@ -102,7 +103,7 @@ def build_two_string(h_alpha, h_beta, eri_aa, eri_ab, eri_bb, n_alpha: int, n_be
     n = h_alpha.shape[0]
     dtype = np.result_type(h_alpha, h_beta, eri_aa, eri_ab, eri_bb, np.float64)
     packed = dtype == np.float64 and pair_symmetric(eri_ab)
-    same = (n_alpha == n_beta and h_alpha is h_beta and eri_aa is eri_bb)
+    same = n_alpha == n_beta and h_alpha is h_beta and eri_aa is eri_bb
     ha = string_hamiltonian(h_alpha, eri_aa, n, n_alpha)
     hb = ha if same else string_hamiltonian(h_beta, eri_bb, n, n_beta)
     alpha_table = excitation_table(n, n_alpha, packed=packed)
@@ -120,10 +121,18 @@ def build_two_string(h_alpha, h_beta, eri_aa, eri_ab, eri_bb, n_alpha: int, n_be
     occ_b = occupation_matrix(strings(n, n_beta), n)
     diagonal = diag_a[:, None] + diag_b[None, :] + occ_a @ coulomb_ab @ occ_b.T
     return TwoStringHamiltonian(
-        n=n, n_alpha=n_alpha, n_beta=n_beta, dtype=np.dtype(dtype), h_alpha=ha, h_beta=hb,
-        pair_matrix=pair_matrix, alpha_pair=alpha_table.pair, alpha_source=alpha_table.source,
+        n=n,
+        n_alpha=n_alpha,
+        n_beta=n_beta,
+        dtype=np.dtype(dtype),
+        h_alpha=ha,
+        h_beta=hb,
+        pair_matrix=pair_matrix,
+        alpha_pair=alpha_table.pair,
+        alpha_source=alpha_table.source,
         alpha_sign=alpha_sign,
-        beta_gather=_beta_gather(beta_table, nb), diagonal=diagonal,
+        beta_gather=_beta_gather(beta_table, nb),
+        diagonal=diagonal,
         block=max(1, min(block, nb)),
     )
 
@@ -160,7 +169,7 @@ def _add_alpha_beta(op: TwoStringHamiltonian, c: np.ndarray, out: np.ndarray) ->
     # Rows of source_t are beta strings: the beta gather copies whole rows of length na.
     source_t = np.zeros((2 * nb + 1, na), dtype=c.dtype)
     source_t[:nb] = c.T
-    np.negative(c.T, out=source_t[nb:2 * nb])
+    np.negative(c.T, out=source_t[nb : 2 * nb])
     dtype = np.result_type(c.dtype, op.pair_matrix.dtype)
     b_buffer = np.empty(npair * op.block * na, dtype=c.dtype)
     g_buffer = np.empty(npair * op.block * na, dtype=dtype)
@@ -170,14 +179,13 @@ def _add_alpha_beta(op: TwoStringHamiltonian, c: np.ndarray, out: np.ndarray) ->
         width = min(op.block, nb - start)
         if width not in offsets:
             # G[pq, i, Ja] sits at pq * width * na + i * na + Ja in the flat block.
-            offsets[width] = ((op.alpha_pair * (width * na) + op.alpha_source)[:, :, None]
-                              + np.arange(width, dtype=np.int64) * na)
+            offsets[width] = (op.alpha_pair * (width * na) + op.alpha_source)[:, :, None] + np.arange(
+                width, dtype=np.int64
+            ) * na
         gathered = b_buffer[: npair * width * na].reshape(npair, width, na)
-        np.take(source_t, op.beta_gather[:, start:start + width], axis=0, out=gathered,
-                mode="clip")
+        np.take(source_t, op.beta_gather[:, start : start + width], axis=0, out=gathered, mode="clip")
         contracted = g_buffer[: npair * width * na]
-        matmul(op.pair_matrix, gathered.reshape(npair, width * na),
-               out=contracted.reshape(npair, width * na))
+        matmul(op.pair_matrix, gathered.reshape(npair, width * na), out=contracted.reshape(npair, width * na))
         rows = x_buffer[: na * nent * width].reshape(na, nent, width)
         np.take(contracted, offsets[width], out=rows, mode="clip")
-        out[:, start:start + width] += np.matmul(op.alpha_sign, rows)[:, 0, :]
+        out[:, start : start + width] += np.matmul(op.alpha_sign, rows)[:, 0, :]

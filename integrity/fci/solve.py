@@ -121,8 +121,7 @@ def _two_string_sector(n, n_alpha, n_beta, n_electrons, two_s):
     n_alpha = _count("n_alpha", n_alpha, 0, n)
     n_beta = _count("n_beta", n_beta, 0, n)
     if n_electrons is not None and n_electrons != n_alpha + n_beta:
-        raise FieldError("n_electrons", f"{n_electrons} differs from n_alpha + n_beta = "
-                                        f"{n_alpha + n_beta}")
+        raise FieldError("n_electrons", f"{n_electrons} differs from n_alpha + n_beta = {n_alpha + n_beta}")
     return n_alpha, n_beta
 
 
@@ -131,27 +130,37 @@ def _check_two_s(two_s, n_alpha, n_beta):
         return
     _count("two_s", two_s, 0, 10**6)
     if two_s < abs(n_alpha - n_beta) or (two_s - (n_alpha - n_beta)) % 2:
-        raise FieldError("two_s", f"no state with 2S = {two_s} exists with n_alpha = {n_alpha}, "
-                                  f"n_beta = {n_beta} (2S must be >= |n_alpha - n_beta| with the "
-                                  "same parity)")
+        raise FieldError(
+            "two_s",
+            f"no state with 2S = {two_s} exists with n_alpha = {n_alpha}, "
+            f"n_beta = {n_beta} (2S must be >= |n_alpha - n_beta| with the "
+            "same parity)",
+        )
 
 
 def _roots(states, first: int, s_squared_known: bool) -> tuple[Root, ...]:
     out = []
     for i in range(first, len(states.energies)):
         s2 = states.s_squared[i] if s_squared_known else None
-        out.append(Root(energy=float(states.energies[i]), s_squared=s2,
-                        two_s=None if s2 is None else two_s_of(s2), irrep=states.irreps[i],
-                        residual_norm=float(states.residual_norms[i]),
-                        converged=bool(states.converged[i])))
+        out.append(
+            Root(
+                energy=float(states.energies[i]),
+                s_squared=s2,
+                two_s=None if s2 is None else two_s_of(s2),
+                irrep=states.irreps[i],
+                residual_norm=float(states.residual_norms[i]),
+                converged=bool(states.converged[i]),
+            )
+        )
     return tuple(out)
 
 
 def _spin_orbital_sector(h1, eri, m, layout, n_alpha, n_beta, n_electrons, two_s):
     """``(total, n_alpha, n_beta, conserving, notes)`` for spin-orbital input."""
     if layout not in ("interleaved", "blocked"):
-        raise FieldError("spin_layout", "spin-orbital input needs spin_layout 'interleaved' "
-                                        f"or 'blocked', got {layout!r}")
+        raise FieldError(
+            "spin_layout", f"spin-orbital input needs spin_layout 'interleaved' or 'blocked', got {layout!r}"
+        )
     if n_electrons is None and n_alpha is not None and n_beta is not None:
         n_electrons = n_alpha + n_beta
     if n_electrons is None:
@@ -159,16 +168,17 @@ def _spin_orbital_sector(h1, eri, m, layout, n_alpha, n_beta, n_electrons, two_s
     total = _count("n_electrons", n_electrons, 0, m)
     if not sz_conserved(h1, eri, layout):
         if n_alpha is not None or n_beta is not None:
-            raise FieldError("n_alpha", "the Hamiltonian couples alpha and beta spin orbitals, "
-                                        "so n_alpha is not conserved; give n_electrons only")
-        return total, None, None, False, ["S_z is not conserved: solved in the whole "
-                                          "N-electron space"]
+            raise FieldError(
+                "n_alpha",
+                "the Hamiltonian couples alpha and beta spin orbitals, "
+                "so n_alpha is not conserved; give n_electrons only",
+            )
+        return total, None, None, False, ["S_z is not conserved: solved in the whole N-electron space"]
     if n_alpha is None and n_beta is None:
         n_alpha, n_beta = _split(total, m // 2, two_s)
     else:
         if n_alpha is not None and n_beta is not None and n_alpha + n_beta != total:
-            raise FieldError("n_electrons", f"{total} differs from n_alpha + n_beta = "
-                                            f"{n_alpha + n_beta}")
+            raise FieldError("n_electrons", f"{total} differs from n_alpha + n_beta = {n_alpha + n_beta}")
         n_alpha = total - n_beta if n_alpha is None else n_alpha
         n_alpha = _count("n_alpha", n_alpha, 0, m // 2)
         n_beta = _count("n_beta", total - n_alpha, 0, m // 2)
@@ -179,10 +189,26 @@ def _spin_orbital_sector(h1, eri, m, layout, n_alpha, n_beta, n_electrons, two_s
     return total, n_alpha, n_beta, True, notes
 
 
-def solve_arrays(basis: str, h1, eri, ecore: float = 0.0, *, n_alpha=None, n_beta=None,
-                 n_electrons=None, spin_layout=None, irreps=None, nroots: int = 1,
-                 two_s=None, irrep=None, root: int = 0, engine: str = "native",
-                 memory: int = 4 * 2**30, tol: float = 1e-9, max_iter: int = 200) -> FCIResult:
+def solve_arrays(
+    basis: str,
+    h1,
+    eri,
+    ecore: float = 0.0,
+    *,
+    n_alpha=None,
+    n_beta=None,
+    n_electrons=None,
+    spin_layout=None,
+    irreps=None,
+    nroots: int = 1,
+    two_s=None,
+    irrep=None,
+    root: int = 0,
+    engine: str = "native",
+    memory: int = 4 * 2**30,
+    tol: float = 1e-9,
+    max_iter: int = 200,
+) -> FCIResult:
     """Lowest ``nroots`` matching states (from ``root`` on) of one Hamiltonian.
 
     ``basis`` is "restricted", "unrestricted" or "spin-orbital" (then
@@ -206,7 +232,8 @@ def solve_arrays(basis: str, h1, eri, ecore: float = 0.0, *, n_alpha=None, n_bet
     irreps = check_irreps(irreps, n // 2 if layout else n, irrep)
     if basis == "spin-orbital":
         total, n_alpha, n_beta, conserving, notes = _spin_orbital_sector(
-            h1, eri, n, layout, n_alpha, n_beta, n_electrons, two_s)
+            h1, eri, n, layout, n_alpha, n_beta, n_electrons, two_s
+        )
     else:
         n_alpha, n_beta = _two_string_sector(n, n_alpha, n_beta, n_electrons, two_s)
         total, conserving, notes = n_alpha + n_beta, True, []
@@ -217,63 +244,154 @@ def solve_arrays(basis: str, h1, eri, ecore: float = 0.0, *, n_alpha=None, n_bet
         notes.append("two_s not checked: unrestricted orbitals (no alpha-beta overlap)")
         spin_target = None
     solve = _solve_pyscf if engine == "pyscf" else _solve_native
-    return solve(basis, h1, eri, float(np.real(ecore)), n_alpha=n_alpha, n_beta=n_beta,
-                 total=total, layout=layout, conserving=conserving, irreps=irreps, irrep=irrep,
-                 need=root + nroots, root=root, two_s=two_s, spin_target=spin_target, tol=tol,
-                 max_iter=max_iter, memory=memory, notes=notes)
+    return solve(
+        basis,
+        h1,
+        eri,
+        float(np.real(ecore)),
+        n_alpha=n_alpha,
+        n_beta=n_beta,
+        total=total,
+        layout=layout,
+        conserving=conserving,
+        irreps=irreps,
+        irrep=irrep,
+        need=root + nroots,
+        root=root,
+        two_s=two_s,
+        spin_target=spin_target,
+        tol=tol,
+        max_iter=max_iter,
+        memory=memory,
+        notes=notes,
+    )
 
 
-def _solve_native(basis, h1, eri, ecore, *, n_alpha, n_beta, total, layout, conserving, irreps,
-                  irrep, need, root, two_s, spin_target, tol, max_iter, memory, notes):
+def _solve_native(
+    basis,
+    h1,
+    eri,
+    ecore,
+    *,
+    n_alpha,
+    n_beta,
+    total,
+    layout,
+    conserving,
+    irreps,
+    irrep,
+    need,
+    root,
+    two_s,
+    spin_target,
+    tol,
+    max_iter,
+    memory,
+    notes,
+):
     if basis == "spin-orbital":
-        problem = spin_orbital_problem(h1, eri, total, layout,
-                                       n_alpha=n_alpha if conserving else None, irreps=irreps,
-                                       irrep=irrep, nroots=need, budget=memory)
+        problem = spin_orbital_problem(
+            h1,
+            eri,
+            total,
+            layout,
+            n_alpha=n_alpha if conserving else None,
+            irreps=irreps,
+            irrep=irrep,
+            nroots=need,
+            budget=memory,
+        )
     else:
         parity = None
         if spin_target is not None and basis == "restricted" and n_alpha == n_beta:
             parity = -1 if (spin_target // 2) % 2 else 1
-            notes.append(f"searched the spin-flip parity {parity:+d} subspace (S "
-                         f"{'odd' if parity < 0 else 'even'})")
-        problem = two_string_problem(basis, h1, eri, n_alpha, n_beta, irreps=irreps, irrep=irrep,
-                                     parity=parity, nroots=need, budget=memory)
+            notes.append(f"searched the spin-flip parity {parity:+d} subspace (S {'odd' if parity < 0 else 'even'})")
+        problem = two_string_problem(
+            basis, h1, eri, n_alpha, n_beta, irreps=irreps, irrep=irrep, parity=parity, nroots=need, budget=memory
+        )
     notes.extend(problem.notes)
 
     def check_memory(k):
         check_budget(with_roots(problem.memory, k, problem.dtype.itemsize), memory)
 
-    states = lowest_states(problem, need, two_s=spin_target, tol=math.sqrt(tol) / 30.0,
-                           max_iter=max_iter, check_memory=check_memory)
+    states = lowest_states(
+        problem, need, two_s=spin_target, tol=math.sqrt(tol) / 30.0, max_iter=max_iter, check_memory=check_memory
+    )
     if states.roots_solved > need:
         notes.append(f"solved {states.roots_solved} roots to find {need} with 2S = {spin_target}")
     if basis == "unrestricted":
         notes.append("<S^2> not available: unrestricted orbitals")
     states = _with_ecore(states, ecore)
-    return FCIResult(engine="native", roots=_roots(states, root, basis != "unrestricted"),
-                     iterations=states.iterations, determinants=problem.ndet,
-                     memory_estimate=problem.memory.total, notes=tuple(notes), n_alpha=n_alpha,
-                     n_beta=n_beta, n_electrons=total,
-                     two_s_checked=None if two_s is None else spin_target is not None)
+    return FCIResult(
+        engine="native",
+        roots=_roots(states, root, basis != "unrestricted"),
+        iterations=states.iterations,
+        determinants=problem.ndet,
+        memory_estimate=problem.memory.total,
+        notes=tuple(notes),
+        n_alpha=n_alpha,
+        n_beta=n_beta,
+        n_electrons=total,
+        two_s_checked=None if two_s is None else spin_target is not None,
+    )
 
 
 def _with_ecore(states, ecore):
     return replace(states, energies=states.energies + ecore)
 
 
-def _solve_pyscf(basis, h1, eri, ecore, *, n_alpha, n_beta, total, layout, conserving, irreps,
-                 irrep, need, root, two_s, spin_target, tol, max_iter, memory, notes):
-    del conserving, memory                       # pyscf checks the blocks and its own memory
+def _solve_pyscf(
+    basis,
+    h1,
+    eri,
+    ecore,
+    *,
+    n_alpha,
+    n_beta,
+    total,
+    layout,
+    conserving,
+    irreps,
+    irrep,
+    need,
+    root,
+    two_s,
+    spin_target,
+    tol,
+    max_iter,
+    memory,
+    notes,
+):
+    del conserving, memory  # pyscf checks the blocks and its own memory
     mapped, h1p, erip = pyscf_arrays(basis, h1, eri, layout)
     if basis == "spin-orbital":
         notes.append(f"spin-orbital input passed to pyscf as {mapped} orbitals")
     checked = spin_target is not None and mapped == "restricted"
-    states = pyscf_states(mapped, h1p, erip, n_alpha, n_beta, need=need,
-                          two_s=spin_target if checked else None, irreps=irreps,
-                          irrep=irrep, tol=tol, max_iter=max_iter)
+    states = pyscf_states(
+        mapped,
+        h1p,
+        erip,
+        n_alpha,
+        n_beta,
+        need=need,
+        two_s=spin_target if checked else None,
+        irreps=irreps,
+        irrep=irrep,
+        tol=tol,
+        max_iter=max_iter,
+    )
     if mapped == "unrestricted" and basis == "spin-orbital" and two_s is not None:
         notes.append("two_s not checked: pyscf takes these alpha and beta blocks as unrestricted")
     states = _with_ecore(states, ecore)
-    return FCIResult(engine="pyscf", roots=_roots(states, root, mapped == "restricted"),
-                     iterations=None, determinants=states.determinants, memory_estimate=None,
-                     notes=tuple(notes), n_alpha=n_alpha, n_beta=n_beta, n_electrons=total,
-                     two_s_checked=None if two_s is None else checked)
+    return FCIResult(
+        engine="pyscf",
+        roots=_roots(states, root, mapped == "restricted"),
+        iterations=None,
+        determinants=states.determinants,
+        memory_estimate=None,
+        notes=tuple(notes),
+        n_alpha=n_alpha,
+        n_beta=n_beta,
+        n_electrons=total,
+        two_s_checked=None if two_s is None else checked,
+    )

@@ -54,8 +54,7 @@ def raise_two_string(c: np.ndarray, n: int, n_alpha: int, n_beta: int) -> np.nda
         return np.zeros((0, 0), dtype=c.dtype)
     up = creation_table(n, n_alpha)
     down = annihilation_table(n, n_beta)
-    out = np.zeros((len(strings(n, n_alpha + 1)), len(strings(n, n_beta - 1))),
-                   dtype=c.dtype)
+    out = np.zeros((len(strings(n, n_alpha + 1)), len(strings(n, n_beta - 1))), dtype=c.dtype)
     parity = -1.0 if n_alpha % 2 else 1.0
     for i in range(n):
         rows = np.flatnonzero(up.index[:, i] >= 0)
@@ -103,8 +102,7 @@ def spin_orbital_raising(determinants: np.ndarray, m: int, layout: str):
         idx = np.flatnonzero(((determinants & down_bit) != 0) & ((determinants & up_bit) == 0))
         det = determinants[idx]
         after_down = det ^ down_bit
-        sign = (1 - 2 * (popcount(det & (down_bit - 1)) & 1)) * \
-               (1 - 2 * (popcount(after_down & (up_bit - 1)) & 1))
+        sign = (1 - 2 * (popcount(det & (down_bit - 1)) & 1)) * (1 - 2 * (popcount(after_down & (up_bit - 1)) & 1))
         sources.append(idx)
         results.append(after_down | up_bit)
         signs.append(sign)
@@ -112,12 +110,15 @@ def spin_orbital_raising(determinants: np.ndarray, m: int, layout: str):
         empty = np.zeros(0, dtype=np.int64)
         return empty, empty, empty, 0
     unique, inverse = np.unique(np.concatenate(results), return_inverse=True)
-    return (np.concatenate(sources).astype(np.int64), inverse.astype(np.int64),
-            np.concatenate(signs).astype(np.int64), len(unique))
+    return (
+        np.concatenate(sources).astype(np.int64),
+        inverse.astype(np.int64),
+        np.concatenate(signs).astype(np.int64),
+        len(unique),
+    )
 
 
-def spin_square_matrix_spin_orbital(vectors, determinants: np.ndarray, m: int, layout: str,
-                                    raising=None) -> np.ndarray:
+def spin_square_matrix_spin_orbital(vectors, determinants: np.ndarray, m: int, layout: str, raising=None) -> np.ndarray:
     """``M[i, j] = <x_i|S^2|x_j>`` for row vectors over spin-orbital ``determinants``.
 
     ``raising`` may hold a precomputed :func:`spin_orbital_raising`.
@@ -129,8 +130,7 @@ def spin_square_matrix_spin_orbital(vectors, determinants: np.ndarray, m: int, l
     """
     vectors = np.atleast_2d(np.asarray(vectors))
     determinants = np.asarray(determinants, dtype=np.int64)
-    source, result, sign, count = raising if raising is not None else \
-        spin_orbital_raising(determinants, m, layout)
+    source, result, sign, count = raising if raising is not None else spin_orbital_raising(determinants, m, layout)
     alpha_mask = int(sum(1 << int(a) for a in alpha_index(m // 2, layout)))
     n_up = popcount(determinants & np.int64(alpha_mask))
     sz = 0.5 * (2 * n_up - popcount(determinants))

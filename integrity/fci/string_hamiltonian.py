@@ -67,13 +67,12 @@ def string_hamiltonian(h, eri, n: int, k: int):
     block = max(1, _TERMS_PER_BLOCK // max(1, nent * nent))
     for start in range(0, nstr, block):
         stop = min(nstr, start + block)
-        middle = table.source[start:stop]                      # K, shape (b, e)
-        second_pair = table.pair[middle]                       # (b, e, e)
+        middle = table.source[start:stop]  # K, shape (b, e)
+        second_pair = table.pair[middle]  # (b, e, e)
         values = g[table.pair[start:stop, :, None], second_pair]
         values = values * (0.5 * table.sign[start:stop, :, None] * table.sign[middle])
         target = np.broadcast_to(np.arange(start, stop)[:, None, None], values.shape)
-        pieces.append((target.reshape(-1), table.source[middle].reshape(-1),
-                       values.reshape(-1)))
+        pieces.append((target.reshape(-1), table.source[middle].reshape(-1), values.reshape(-1)))
     if dense:
         return _accumulate_dense(pieces, nstr, dtype)
     return _accumulate_sparse(pieces, nstr, dtype)
@@ -92,8 +91,7 @@ def _accumulate_dense(pieces, nstr: int, dtype) -> np.ndarray:
 def _accumulate_sparse(pieces, nstr: int, dtype):
     total = scipy.sparse.csr_array((nstr, nstr), dtype=dtype)
     for target, source, values in pieces:
-        part = scipy.sparse.coo_array((values.astype(dtype), (target, source)),
-                                      shape=(nstr, nstr)).tocsr()
+        part = scipy.sparse.coo_array((values.astype(dtype), (target, source)), shape=(nstr, nstr)).tocsr()
         total = total + part
     total.sum_duplicates()
     total.eliminate_zeros()

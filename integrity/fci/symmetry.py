@@ -31,8 +31,7 @@ def check_irreps(irreps, n: int, irrep=None) -> np.ndarray | None:
         return None
     labels = np.asarray(irreps)
     if labels.shape != (n,) or labels.dtype.kind not in "iu":
-        raise FieldError("irreps",
-                         f"expected {n} integers, got {labels.dtype} shape {labels.shape}")
+        raise FieldError("irreps", f"expected {n} integers, got {labels.dtype} shape {labels.shape}")
     if labels.size and (labels.min() < 0 or labels.max() > 7):
         raise FieldError("irreps", f"irreps must lie in 0..7, got {labels.min()}..{labels.max()}")
     if irrep is not None and not (isinstance(irrep, (int, np.integer)) and 0 <= irrep <= 7):

@@ -185,8 +185,10 @@ def excitation_entries(targets, sources, n: int, *, chunk: int = 2**15):
     """
     targets = np.asarray(targets, dtype=np.int64)
     sources = np.asarray(sources, dtype=np.int64)
-    parts = [_entries(targets[start:start + chunk], sources, n, start)
-             for start in range(0, len(targets) if len(sources) else 0, chunk)]
+    parts = [
+        _entries(targets[start : start + chunk], sources, n, start)
+        for start in range(0, len(targets) if len(sources) else 0, chunk)
+    ]
     if not parts:
         empty = np.zeros(0, dtype=np.int64)
         return empty, empty, empty, empty, empty
@@ -205,5 +207,10 @@ def _entries(targets, sources, n, offset):
     source_str, sign = _excitation_sign(target_str, p, q)
     s_idx = np.minimum(np.searchsorted(sources, source_str), len(sources) - 1)
     found = sources[s_idx] == source_str
-    return (t_idx[found].astype(np.int64) + offset, p[found], q[found],
-            s_idx[found].astype(np.int64), sign[found].astype(np.int64))
+    return (
+        t_idx[found].astype(np.int64) + offset,
+        p[found],
+        q[found],
+        s_idx[found].astype(np.int64),
+        sign[found].astype(np.int64),
+    )

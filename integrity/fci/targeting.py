@@ -95,17 +95,21 @@ def _purify(problem: Problem, energies, vectors, norms, converged):
         converged[group] = converged[group].all()
     s_squared = [None] * len(energies)
     if problem.spin_square is not None:
-        s_squared = [float(np.real(problem.spin_square(vectors[:, [k]].T)[0, 0]))
-                     for k in range(len(energies))]
+        s_squared = [float(np.real(problem.spin_square(vectors[:, [k]].T)[0, 0])) for k in range(len(energies))]
     irreps = [None] * len(energies)
     if problem.det_irreps is not None:
         for k in range(len(energies)):
-            weights = np.bincount(problem.det_irreps, weights=np.abs(vectors[:, k]) ** 2,
-                                  minlength=8)
+            weights = np.bincount(problem.det_irreps, weights=np.abs(vectors[:, k]) ** 2, minlength=8)
             irreps[k] = dominant_irrep(weights)
     order = np.argsort(energies, kind="stable")
-    return (energies[order], vectors[:, order], norms[order], converged[order],
-            [s_squared[i] for i in order], [irreps[i] for i in order])
+    return (
+        energies[order],
+        vectors[:, order],
+        norms[order],
+        converged[order],
+        [s_squared[i] for i in order],
+        [irreps[i] for i in order],
+    )
 
 
 def _pure(s_squared) -> bool:
@@ -115,8 +119,9 @@ def _pure(s_squared) -> bool:
     return abs(s_squared - s * (s + 1)) <= PURITY
 
 
-def lowest_states(problem: Problem, need: int, *, two_s=None, tol: float = 1e-6,
-                  max_iter: int = 200, check_memory=None) -> States:
+def lowest_states(
+    problem: Problem, need: int, *, two_s=None, tol: float = 1e-6, max_iter: int = 200, check_memory=None
+) -> States:
     """The lowest ``need`` states of ``problem``, those of spin ``two_s / 2`` when given.
 
     ``check_memory(k)`` is called before solving ``k`` roots (it may raise
@@ -128,39 +133,55 @@ def lowest_states(problem: Problem, need: int, *, two_s=None, tol: float = 1e-6,
     cap = min(problem.ndet, MAX_GROWTH * need + 2)
     k = min(problem.ndet, need if two_s is None else need + 2)
     if two_s is not None and problem.ndet <= EXPLICIT_LIMIT:
-        k = problem.ndet                   # diagonalised exactly anyway: take every root
+        k = problem.ndet  # diagonalised exactly anyway: take every root
     guesses = None
     iterations = 0
     while True:
         if check_memory is not None:
             check_memory(k)
-        result = davidson(problem.matvec, problem.diagonal, k, tol=tol, max_iter=max_iter,
-                          guesses=guesses, project=problem.project, dtype=problem.dtype)
+        result = davidson(
+            problem.matvec,
+            problem.diagonal,
+            k,
+            tol=tol,
+            max_iter=max_iter,
+            guesses=guesses,
+            project=problem.project,
+            dtype=problem.dtype,
+        )
         iterations += result.iterations
         exhausted = len(result.energies) < k or k >= problem.ndet
         energies, vectors, norms, converged, s2, irreps = _purify(
-            problem, result.energies, result.vectors, result.residual_norms, result.converged)
+            problem, result.energies, result.vectors, result.residual_norms, result.converged
+        )
         if two_s is None:
             chosen = list(range(min(need, len(energies))))
         else:
-            chosen = [i for i in range(len(energies))
-                      if _pure(s2[i]) and two_s_of(s2[i]) == two_s][:need]
+            chosen = [i for i in range(len(energies)) if _pure(s2[i]) and two_s_of(s2[i]) == two_s][:need]
         if len(chosen) >= need:
             break
         if exhausted or k >= cap:
             found = len(chosen)
             what = "states" if two_s is None else f"states with 2S = {two_s}"
-            spins = "" if two_s is None else (
-                "; <S^2> of the lowest roots: "
-                + ", ".join("None" if v is None else f"{v:.4f}" for v in s2[:8]))
-            raise FieldError("root" if two_s is None else "two_s",
-                             f"needed {need} {what} but found {found} among the lowest "
-                             f"{len(energies)} of {problem.ndet} determinants{spins}")
+            spins = (
+                ""
+                if two_s is None
+                else ("; <S^2> of the lowest roots: " + ", ".join("None" if v is None else f"{v:.4f}" for v in s2[:8]))
+            )
+            raise FieldError(
+                "root" if two_s is None else "two_s",
+                f"needed {need} {what} but found {found} among the lowest "
+                f"{len(energies)} of {problem.ndet} determinants{spins}",
+            )
         k = min(cap, 2 * k)
         guesses = vectors
     return States(
-        energies=energies[chosen], vectors=vectors[:, chosen],
-        s_squared=[s2[i] for i in chosen], irreps=[irreps[i] for i in chosen],
-        residual_norms=norms[chosen], converged=converged[chosen], iterations=iterations,
+        energies=energies[chosen],
+        vectors=vectors[:, chosen],
+        s_squared=[s2[i] for i in chosen],
+        irreps=[irreps[i] for i in chosen],
+        residual_norms=norms[chosen],
+        converged=converged[chosen],
+        iterations=iterations,
         roots_solved=len(energies),
     )

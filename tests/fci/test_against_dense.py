@@ -35,8 +35,7 @@ def _four_fold_real(n, rng):
     return h + h.T, 0.25 * g
 
 
-@pytest.mark.parametrize(("n", "n_alpha", "n_beta"),
-                         [(2, 1, 1), (4, 2, 2), (5, 3, 1), (5, 0, 3), (6, 3, 3), (6, 4, 2)])
+@pytest.mark.parametrize(("n", "n_alpha", "n_beta"), [(2, 1, 1), (4, 2, 2), (5, 3, 1), (5, 0, 3), (6, 3, 3), (6, 4, 2)])
 def test_restricted_real_roots_match_the_dense_reference(n, n_alpha, n_beta):
     h, eri = random_restricted(n, np.random.default_rng(n * 10 + n_alpha))
     native = solve_arrays("restricted", h, eri, 0.3, n_alpha=n_alpha, n_beta=n_beta, nroots=3)
@@ -84,10 +83,8 @@ def test_spin_orbital_sectors_match_the_dense_reference(layout):
     h, eri = random_restricted(4, np.random.default_rng(7))
     hs, gs = spin_orbital_integrals("restricted", h, eri, layout)
     for n_alpha, n_beta in ((2, 2), (3, 1), (1, 2)):
-        native = solve_arrays("spin-orbital", hs, gs, n_alpha=n_alpha, n_beta=n_beta,
-                              spin_layout=layout, nroots=3)
-        dense = dense_fci("spin-orbital", hs, gs, n_electrons=n_alpha + n_beta,
-                          n_alpha=n_alpha, spin_layout=layout)
+        native = solve_arrays("spin-orbital", hs, gs, n_alpha=n_alpha, n_beta=n_beta, spin_layout=layout, nroots=3)
+        dense = dense_fci("spin-orbital", hs, gs, n_electrons=n_alpha + n_beta, n_alpha=n_alpha, spin_layout=layout)
         _agree(native, dense, 3)
 
 
@@ -95,17 +92,15 @@ def _random_spin_orbital(m, rng):
     """Complex Hermitian spin-orbital integrals with no spin structure at all."""
     h = rng.standard_normal((m, m)) + 1j * rng.standard_normal((m, m))
     x = rng.standard_normal((m,) * 4) + 1j * rng.standard_normal((m,) * 4)
-    g = x + x.transpose(2, 3, 0, 1)                     # (pq|rs) = (rs|pq)
-    g = g + g.transpose(1, 0, 3, 2).conj()              # (pq|rs) = (qp|sr)*
+    g = x + x.transpose(2, 3, 0, 1)  # (pq|rs) = (rs|pq)
+    g = g + g.transpose(1, 0, 3, 2).conj()  # (pq|rs) = (qp|sr)*
     return h + h.conj().T, 0.1 * g
 
 
 @pytest.mark.parametrize(("m", "n_electrons"), [(6, 3), (8, 4), (8, 1), (6, 5)])
-def test_spin_orbital_hamiltonians_that_couple_alpha_and_beta_match_the_dense_reference(
-        m, n_electrons):
+def test_spin_orbital_hamiltonians_that_couple_alpha_and_beta_match_the_dense_reference(m, n_electrons):
     h, eri = _random_spin_orbital(m, np.random.default_rng(m + n_electrons))
-    native = solve_arrays("spin-orbital", h, eri, n_electrons=n_electrons,
-                          spin_layout="interleaved", nroots=3)
+    native = solve_arrays("spin-orbital", h, eri, n_electrons=n_electrons, spin_layout="interleaved", nroots=3)
     dense = dense_fci("spin-orbital", h, eri, n_electrons=n_electrons, spin_layout="interleaved")
     _agree(native, dense, 3)
     assert any("not conserved" in note for note in native.notes)
@@ -118,10 +113,8 @@ def test_antisymmetrised_input_in_plain_form_gives_the_same_states(layout):
     h, eri = random_restricted(4, np.random.default_rng(3))
     hs, gs = spin_orbital_integrals("restricted", h, eri, layout)
     antisymmetric = 0.5 * (gs - gs.transpose(0, 3, 2, 1))
-    plain = solve_arrays("spin-orbital", hs, gs, n_alpha=2, n_beta=2, spin_layout=layout,
-                         nroots=3)
-    mixed = solve_arrays("spin-orbital", hs, antisymmetric, n_alpha=2, n_beta=2,
-                         spin_layout=layout, nroots=3)
+    plain = solve_arrays("spin-orbital", hs, gs, n_alpha=2, n_beta=2, spin_layout=layout, nroots=3)
+    mixed = solve_arrays("spin-orbital", hs, antisymmetric, n_alpha=2, n_beta=2, spin_layout=layout, nroots=3)
     assert np.allclose(plain.energies, mixed.energies, atol=TOL)
     reference = solve_arrays("restricted", h, eri, n_alpha=2, n_beta=2, nroots=3)
     assert np.allclose(reference.energies, mixed.energies, atol=TOL)
@@ -157,8 +150,7 @@ def test_spin_orbital_sigma_equals_the_dense_matrix_times_the_vector(seed, half)
     from integrity.fci.dense import hamiltonian_matrix
 
     c = rng.standard_normal(len(dets)) + 1j * rng.standard_normal(len(dets))
-    assert np.allclose(sigma_spin_orbital(op, c), hamiltonian_matrix(h, eri, dets) @ c,
-                       atol=1e-10)
+    assert np.allclose(sigma_spin_orbital(op, c), hamiltonian_matrix(h, eri, dets) @ c, atol=1e-10)
 
 
 def test_a_high_spin_ground_state_is_found_from_low_spin_start_determinants():

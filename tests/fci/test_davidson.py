@@ -59,8 +59,7 @@ def test_a_projector_confines_the_search_to_its_range():
     def odd(v):
         return 0.5 * (v - v[::-1])
 
-    result = davidson(lambda v: a @ v, np.diag(a).copy(), 3, tol=1e-9, project=odd,
-                      explicit_limit=0)
+    result = davidson(lambda v: a @ v, np.diag(a).copy(), 3, tol=1e-9, project=odd, explicit_limit=0)
     basis = np.linalg.qr(np.eye(n) - reflection)[0][:, : n // 2]
     exact = np.linalg.eigvalsh(basis.T @ a @ basis)
     assert np.allclose(result.energies, exact[:3], atol=1e-11)

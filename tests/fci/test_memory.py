@@ -25,15 +25,16 @@ def test_a_space_too_large_for_a_tiny_budget_raises_with_the_figures():
 
 
 def test_the_estimate_is_made_without_building_anything_and_grows_with_the_space():
-    sizes = [estimate_memory("restricted", n, n_alpha=n // 2, n_beta=n // 2)
-             for n in (8, 10, 12, 14, 16)]
+    sizes = [estimate_memory("restricted", n, n_alpha=n // 2, n_beta=n // 2) for n in (8, 10, 12, 14, 16)]
     assert sizes == sorted(sizes)
     # At least the Davidson vectors: 24 vectors of comb(16, 8)**2 doubles.
     assert sizes[-1] > 24 * comb(16, 8) ** 2 * 8
-    assert estimate_memory("restricted", 6, n_alpha=3, n_beta=3, complex_values=True) > \
-        estimate_memory("restricted", 6, n_alpha=3, n_beta=3)
-    assert estimate_memory("spin-orbital", 12, n_electrons=6, sz_conserved=False) > \
-        estimate_memory("spin-orbital", 12, n_electrons=6)
+    assert estimate_memory("restricted", 6, n_alpha=3, n_beta=3, complex_values=True) > estimate_memory(
+        "restricted", 6, n_alpha=3, n_beta=3
+    )
+    assert estimate_memory("spin-orbital", 12, n_electrons=6, sz_conserved=False) > estimate_memory(
+        "spin-orbital", 12, n_electrons=6
+    )
 
 
 def test_a_tight_budget_shrinks_the_block_and_keeps_the_answer():
@@ -43,8 +44,7 @@ def test_a_tight_budget_shrinks_the_block_and_keeps_the_answer():
     h, eri = random_restricted(6, np.random.default_rng(1))
     plain = solve_arrays("restricted", h, eri, n_alpha=3, n_beta=3)
     estimate = two_string_memory(6, 3, 3, block=1)
-    squeezed = solve_arrays("restricted", h, eri, n_alpha=3, n_beta=3,
-                            memory=estimate.total + 1)
+    squeezed = solve_arrays("restricted", h, eri, n_alpha=3, n_beta=3, memory=estimate.total + 1)
     assert abs(plain.roots[0].energy - squeezed.roots[0].energy) < 1e-10
     assert squeezed.memory_estimate <= estimate.total + 1
 

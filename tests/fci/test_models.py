@@ -43,9 +43,19 @@ def _band_energy(sites: int, t: float, n_alpha: int, n_beta: int) -> float:
     return float(levels[:n_alpha].sum() + levels[:n_beta].sum())
 
 
-@pytest.mark.parametrize(("sites", "n_alpha", "n_beta"), [
-    (3, 1, 1), (4, 2, 2), (4, 1, 1), (5, 3, 2), (6, 3, 3), (6, 2, 1), (7, 4, 3), (8, 4, 4),
-])
+@pytest.mark.parametrize(
+    ("sites", "n_alpha", "n_beta"),
+    [
+        (3, 1, 1),
+        (4, 2, 2),
+        (4, 1, 1),
+        (5, 3, 2),
+        (6, 3, 3),
+        (6, 2, 1),
+        (7, 4, 3),
+        (8, 4, 4),
+    ],
+)
 def test_noninteracting_hubbard_ring_fills_the_lowest_band_levels(sites, n_alpha, n_beta):
     h, eri = hubbard(sites, t=1.0, u=0.0, periodic=True)
     result = solve_arrays("restricted", h, eri, n_alpha=n_alpha, n_beta=n_beta)

@@ -28,21 +28,20 @@ def test_the_result_is_a_frozen_record_of_roots(small):
         result.engine = "pyscf"
 
 
-@pytest.mark.parametrize(("args", "kwargs", "field"), [
-    (("restricted", np.eye(3), np.zeros((3, 3, 3))), {"n_alpha": 1, "n_beta": 1},
-     "two_electron"),
-    (("restricted", np.eye(3)[:2], np.zeros((3,) * 4)), {"n_alpha": 1, "n_beta": 1},
-     "one_electron"),
-    (("orbital", np.eye(2), np.zeros((2,) * 4)), {"n_alpha": 1, "n_beta": 1}, "basis"),
-    (("restricted", np.eye(2), np.zeros((2,) * 4)), {"n_alpha": 3, "n_beta": 1}, "n_alpha"),
-    (("restricted", np.eye(2), np.zeros((2,) * 4)), {"n_alpha": 1}, "n_alpha"),
-    (("restricted", np.eye(2), np.zeros((2,) * 4)), {}, "n_electrons"),
-    (("restricted", np.eye(2), np.zeros((2,) * 4)), {"n_alpha": 1, "n_beta": 1,
-                                                       "engine": "fast"}, "engine"),
-    (("spin-orbital", np.eye(4), np.zeros((4,) * 4)), {"n_electrons": 2}, "spin_layout"),
-    (("restricted", np.eye(2), np.zeros((2,) * 4)), {"n_alpha": 1, "n_beta": 1,
-                                                       "irreps": [0, 9]}, "irreps"),
-])
+@pytest.mark.parametrize(
+    ("args", "kwargs", "field"),
+    [
+        (("restricted", np.eye(3), np.zeros((3, 3, 3))), {"n_alpha": 1, "n_beta": 1}, "two_electron"),
+        (("restricted", np.eye(3)[:2], np.zeros((3,) * 4)), {"n_alpha": 1, "n_beta": 1}, "one_electron"),
+        (("orbital", np.eye(2), np.zeros((2,) * 4)), {"n_alpha": 1, "n_beta": 1}, "basis"),
+        (("restricted", np.eye(2), np.zeros((2,) * 4)), {"n_alpha": 3, "n_beta": 1}, "n_alpha"),
+        (("restricted", np.eye(2), np.zeros((2,) * 4)), {"n_alpha": 1}, "n_alpha"),
+        (("restricted", np.eye(2), np.zeros((2,) * 4)), {}, "n_electrons"),
+        (("restricted", np.eye(2), np.zeros((2,) * 4)), {"n_alpha": 1, "n_beta": 1, "engine": "fast"}, "engine"),
+        (("spin-orbital", np.eye(4), np.zeros((4,) * 4)), {"n_electrons": 2}, "spin_layout"),
+        (("restricted", np.eye(2), np.zeros((2,) * 4)), {"n_alpha": 1, "n_beta": 1, "irreps": [0, 9]}, "irreps"),
+    ],
+)
 def test_bad_arguments_raise_field_errors_naming_the_field(args, kwargs, field):
     with pytest.raises(FieldError) as caught:
         solve_arrays(*args, **kwargs)
@@ -81,13 +80,11 @@ def test_pyscf_refuses_complex_values_and_spin_coupling_with_the_reason(small):
         solve_arrays("restricted", hc, gc, n_alpha=1, n_beta=1, engine="pyscf")
     hs, gs = spin_orbital_integrals("restricted", h, eri, "interleaved")
     hs = hs.astype(complex)
-    result = solve_arrays("spin-orbital", hs, gs, n_electrons=2, spin_layout="interleaved",
-                          engine="pyscf")
+    result = solve_arrays("spin-orbital", hs, gs, n_electrons=2, spin_layout="interleaved", engine="pyscf")
     assert any("as restricted" in note for note in result.notes)
     mixed = 0.5 * (gs - gs.transpose(0, 3, 2, 1))
     with pytest.raises(UnsupportedError, match="different spin"):
-        solve_arrays("spin-orbital", hs.real, mixed, n_electrons=2, spin_layout="interleaved",
-                     engine="pyscf")
+        solve_arrays("spin-orbital", hs.real, mixed, n_electrons=2, spin_layout="interleaved", engine="pyscf")
 
 
 def test_roots_are_counted_from_the_requested_one(small):
@@ -119,8 +116,7 @@ def test_inconsistent_electron_counts_are_refused(small):
     h, eri = small
     hs, gs = spin_orbital_integrals("restricted", h, eri, "blocked")
     with pytest.raises(FieldError, match="differs"):
-        solve_arrays("spin-orbital", hs, gs, n_electrons=3, n_alpha=1, n_beta=1,
-                     spin_layout="blocked")
+        solve_arrays("spin-orbital", hs, gs, n_electrons=3, n_alpha=1, n_beta=1, spin_layout="blocked")
     with pytest.raises(FieldError, match="differs"):
         solve_arrays("restricted", h, eri, n_electrons=3, n_alpha=1, n_beta=1)
     derived = solve_arrays("restricted", h, eri, n_electrons=3, n_alpha=2)

@@ -120,8 +120,9 @@ def test_excitation_table_entries_are_the_operator_matrix_elements(space, packed
             assert (target, label) not in seen
             seen.add((target, label))
     # Every nonzero <I|E_pq|J> appears: count them by brute force.
-    count = sum(1 for s in strs.tolist() for p in range(n) for q in range(n)
-                if (s >> p) & 1 and (not (s >> q) & 1 or p == q))
+    count = sum(
+        1 for s in strs.tolist() for p in range(n) for q in range(n) if (s >> p) & 1 and (not (s >> q) & 1 or p == q)
+    )
     assert len(seen) == count
 
 
