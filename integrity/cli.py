@@ -86,16 +86,28 @@ def _tolerance(ctx, param, values):
 ENGINES = click.Choice(["native", "pyscf", "both"])
 
 
+def memory_option(help_text: str):
+    return click.option("--memory", type=MEMORY, default=str(DEFAULT_MEMORY), show_default="4GiB", help=help_text)
+
+
+def format_option(help_text: str = "Text for people, JSON for programs."):
+    return click.option(
+        "--format",
+        "output_format",
+        type=click.Choice(["text", "json"]),
+        default="text",
+        show_default=True,
+        help=help_text,
+    )
+
+
+def engine_option(help_text: str):
+    return click.option("--engine", type=ENGINES, default="native", show_default=True, help=help_text)
+
+
 @main.command()
 @click.argument("paths", nargs=-1, required=True, type=click.Path(exists=True))
-@click.option(
-    "--format",
-    "output_format",
-    type=click.Choice(["text", "json"]),
-    default="text",
-    show_default=True,
-    help="Text for people, JSON (schemas/report.schema.json) for programs.",
-)
+@format_option("Text for people, JSON (schemas/report.schema.json) for programs.")
 @click.option("--select", multiple=True, metavar="ID", help="Run only this check (repeatable).")
 @click.option("--skip", multiple=True, metavar="ID", help="Do not run this check (repeatable).")
 @click.option(
@@ -105,20 +117,8 @@ ENGINES = click.Choice(["native", "pyscf", "both"])
     callback=_tolerance,
     help="Limit for one check, e.g. energy.hf=1e-8 (repeatable).",
 )
-@click.option(
-    "--engine",
-    type=ENGINES,
-    default="native",
-    show_default=True,
-    help="Full-CI engine for energy.fci; both: a disagreement fails.",
-)
-@click.option(
-    "--memory",
-    type=MEMORY,
-    default=str(DEFAULT_MEMORY),
-    show_default="4GiB",
-    help="Memory budget; larger arrays are checked block by block.",
-)
+@engine_option("Full-CI engine for energy.fci; both: a disagreement fails.")
+@memory_option("Memory budget; larger arrays are checked block by block.")
 @click.option("--strict", is_flag=True, help="A warning fails the file.")
 @click.option("--list", "list_checks", is_flag=True, help="List the check ids and exit.")
 @guarded
@@ -169,17 +169,9 @@ def check(paths, output_format, select, skip, tolerance, engine, memory, strict,
 )
 @click.option("--two-s", type=click.IntRange(min=0), help="Keep only states with this 2S.")
 @click.option("--irrep", type=click.IntRange(0, 7), help="Keep only states of this irrep (needs irreps).")
-@click.option(
-    "--engine", type=ENGINES, default="native", show_default=True, help="Our solver, pyscf's, or both side by side."
-)
-@click.option(
-    "--memory",
-    type=MEMORY,
-    default=str(DEFAULT_MEMORY),
-    show_default="4GiB",
-    help="Refuse a solve whose estimate exceeds this.",
-)
-@click.option("--format", "output_format", type=click.Choice(["text", "json"]), default="text", show_default=True)
+@engine_option("Our solver, pyscf's, or both side by side.")
+@memory_option("Refuse a solve whose estimate exceeds this.")
+@format_option()
 @guarded
 def solve(file, roots, alpha, beta, electrons, two_s, irrep, engine, memory, output_format):
     """Full-CI energies of the lowest states of FILE, with their 2S (and irrep).
@@ -337,8 +329,8 @@ def convert(in_path, out_path, notation, storage, basis, spin_layout, antisymmet
     help="What the expected energy is: the determinant (hf) or full CI (default fci).",
 )
 @click.option("--tolerance", type=float, default=1e-6, show_default=True, help="Hartree.")
-@click.option("--memory", type=MEMORY, default=str(DEFAULT_MEMORY), show_default="4GiB")
-@click.option("--format", "output_format", type=click.Choice(["text", "json"]), default="text", show_default=True)
+@memory_option("Memory budget.")
+@format_option()
 @guarded
 def diagnose(file, expected, label, method, tolerance, memory, output_format):
     """Explain why FILE does not give an expected energy: each known mistake is re-enacted
@@ -391,21 +383,8 @@ def diagnose(file, expected, label, method, tolerance, memory, output_format):
 
 @main.command()
 @click.argument("file", type=click.Path(dir_okay=False))
-@click.option(
-    "--format",
-    "output_format",
-    type=click.Choice(["text", "json"]),
-    default="text",
-    show_default=True,
-    help="Text for people, JSON for programs.",
-)
-@click.option(
-    "--memory",
-    type=MEMORY,
-    default=str(DEFAULT_MEMORY),
-    show_default="4GiB",
-    help="Largest array the file may declare.",
-)
+@format_option("Text for people, JSON for programs.")
+@memory_option("Largest array the file may declare.")
 @guarded
 def show(file, output_format, memory):
     """Summarize FILE: basis, counts, notation, storage, norms, fingerprint, references.

@@ -12,6 +12,7 @@ lead, not a proof: distinct mistakes can give the same number.
 
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -21,7 +22,7 @@ from .explain import constant_hints
 from .fullci import solve
 from .io import DEFAULT_MEMORY
 from .meanfield import default_occupation, determinant_energy, reference_occupation
-from .model import Electrons, Hamiltonian, Orbitals, Reference, TwoElectron
+from .model import Electrons, Hamiltonian, Reference, TwoElectron
 
 
 @dataclass(frozen=True)
@@ -181,9 +182,7 @@ def _variants(ham: Hamiltonian, target: _Target):
         )
     if ham.basis == "spin-orbital":
         other = "blocked" if ham.orbitals.spin_layout == "interleaved" else "interleaved"
-        orbitals = Orbitals(
-            ham.n, "spin-orbital", other, ham.orbitals.point_group, ham.orbitals.irreps, ham.orbitals.canonical
-        )
+        orbitals = dataclasses.replace(ham.orbitals, spin_layout=other)
         yield (
             "spin layout",
             f"the spin orbitals are really {other}",

@@ -125,26 +125,46 @@ def unpack_pairs(pairs: np.ndarray, n: int) -> np.ndarray:
     return pairs[table[:, :, None, None], table[None, None, :, :]]
 
 
+#: bytes of dense rows gathered at once while packing
+GATHER_BYTES = 2 * 2**20
+
+
 def pack_pairs(dense: np.ndarray) -> np.ndarray:
-    """Pair matrix of a dense chemist array, reading the p >= q, r >= s elements."""
+    """Pair matrix of a dense chemist array: ``pairs[pair(p,q), pair(r,s)] = dense[p,q,r,s]``, p >= q, r >= s.
+
+    Gathered in row blocks of about ``GATHER_BYTES``, so no index array of size P^2 is built.
+    """
     n = dense.shape[-1]
+    flat = np.ascontiguousarray(dense).reshape(n * n, n * n)
     p, q = pair_members(n)
-    return dense[p[:, None], q[:, None], p[None, :], q[None, :]]
+    index = p * n + q
+    npair = len(index)
+    out = np.empty((npair, npair), dtype=dense.dtype)
+    rows = max(1, GATHER_BYTES // (n * n * dense.itemsize))
+    for start in range(0, npair, rows):
+        out[start : start + rows] = flat[index[start : start + rows]][:, index]
+    return out
 
 
 def unique_from_pairs(pairs: np.ndarray) -> np.ndarray:
-    """Lower triangle of a pair matrix, row by row (``unique`` storage)."""
-    rows, cols = np.tril_indices(pairs.shape[0])
-    return pairs[rows, cols]
+    """Lower triangle of a pair matrix, row by row (``unique`` storage): ``unique[I(I+1)/2 + J] = pairs[I, J]``."""
+    npair = pairs.shape[0]
+    out = np.empty(n_pairs(npair), dtype=pairs.dtype)
+    for row in range(npair):
+        offset = row * (row + 1) // 2
+        out[offset : offset + row + 1] = pairs[row, : row + 1]
+    return out
 
 
 def pairs_from_unique(unique: np.ndarray, npair: int) -> np.ndarray:
-    """Symmetric pair matrix from its lower triangle."""
-    pairs = np.empty((npair, npair), dtype=unique.dtype)
-    rows, cols = np.tril_indices(npair)
-    pairs[rows, cols] = unique
-    pairs[cols, rows] = unique
-    return pairs
+    """Symmetric pair matrix from its lower triangle: ``pairs[I, J] = pairs[J, I]``, I >= J."""
+    out = np.empty((npair, npair), dtype=unique.dtype)
+    for row in range(npair):
+        offset = row * (row + 1) // 2
+        out[row, : row + 1] = unique[offset : offset + row + 1]
+    for row in range(npair):
+        out[row, row + 1 :] = out[row + 1 :, row]
+    return out
 
 
 def npair_from_unique_length(length: int) -> int | None:

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import dataclasses
+
 import numpy as np
 
 from ..explain import constant_hints
@@ -17,13 +19,8 @@ def _layout_hint(ham, ref, expected, tolerance):
     """Spin-orbital: does the energy match when the spin orbitals are read in the other layout?"""
     if ham.basis != "spin-orbital":
         return []
-    from ..model import Orbitals
-
     other = "blocked" if ham.orbitals.spin_layout == "interleaved" else "interleaved"
-    orbitals = Orbitals(
-        ham.n, "spin-orbital", other, ham.orbitals.point_group, ham.orbitals.irreps, ham.orbitals.canonical
-    )
-    relabelled = ham.replace(orbitals=orbitals)
+    relabelled = ham.replace(orbitals=dataclasses.replace(ham.orbitals, spin_layout=other))
     electrons = ham.electrons_of(ref)
     occupation = default_occupation(relabelled, electrons.alpha, electrons.beta)
     if abs(np.real(determinant_energy(relabelled, occupation)) - expected) <= tolerance:

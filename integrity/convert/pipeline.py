@@ -37,12 +37,13 @@ False
 
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass
 
 from ..errors import FieldError, RefusedError
 from ..fingerprint import fingerprint
 from ..indexing import BASES, NOTATIONS, SPIN_LAYOUTS, STORAGES
-from ..model import Hamiltonian, Orbitals, TwoElectron
+from ..model import Hamiltonian, TwoElectron
 from .exact import native, same_bits
 from .history import step_entry, with_history
 from .metadata import layout_permutation, map_references, relabelled_irreps, relabelled_occupation
@@ -211,13 +212,8 @@ def _reindex_step(ham: Hamiltonian, target: Target, owned: bool = False):
     if change_layout:
         new_index = layout_permutation(ham.n, *layout)
         orb = ham.orbitals
-        changes["orbitals"] = Orbitals(
-            count=orb.count,
-            basis=orb.basis,
-            spin_layout=target.spin_layout,
-            point_group=orb.point_group,
-            irreps=relabelled_irreps(orb.irreps, new_index),
-            canonical=orb.canonical,
+        changes["orbitals"] = dataclasses.replace(
+            orb, spin_layout=target.spin_layout, irreps=relabelled_irreps(orb.irreps, new_index)
         )
         changes["one_electron"] = reindexed(ham.one_electron, n_spatial=n_spatial, layout=layout)
         changes["references"] = map_references(ham.references, lambda occ, label: relabelled_occupation(occ, new_index))

@@ -32,6 +32,7 @@ coupling in the one-electron part, but one_electron[0, 1] = 0.25 couples spin or
 
 from __future__ import annotations
 
+import dataclasses
 import itertools
 from dataclasses import dataclass
 
@@ -39,7 +40,7 @@ import numpy as np
 
 from ..errors import FieldError, RefusedError
 from ..indexing import spin_orbital_index
-from ..model import Hamiltonian, Orbitals, TwoElectron
+from ..model import Hamiltonian, TwoElectron
 from .exact import native
 from .history import step_entry
 from .metadata import SPIN_NAMES, map_references, occupation_from_spin_orbitals, spatial_irreps
@@ -279,13 +280,7 @@ def from_spin_orbital_step(ham: Hamiltonian, basis: str, *, force: bool = False,
         ham.references, lambda occ, label: occupation_from_spin_orbitals(occ, ham.n, layout, label)
     )
     result = ham.replace(
-        orbitals=Orbitals(
-            count=n,
-            basis=basis,
-            point_group=orb.point_group,
-            irreps=irreps,
-            canonical=orb.canonical,
-        ),
+        orbitals=dataclasses.replace(orb, count=n, basis=basis, spin_layout=None, irreps=irreps),
         one_electron=one,
         two_electron=TwoElectron(
             eri,
@@ -306,13 +301,7 @@ def to_restricted_step(ham: Hamiltonian, *, force: bool = False, tolerance: floa
     extra = _judge(unrestricted_offenses(ham), "unrestricted", "restricted", force, tolerance)
     two = ham.two_electron
     result = ham.replace(
-        orbitals=Orbitals(
-            count=ham.n,
-            basis="restricted",
-            point_group=ham.orbitals.point_group,
-            irreps=ham.orbitals.irreps,
-            canonical=ham.orbitals.canonical,
-        ),
+        orbitals=dataclasses.replace(ham.orbitals, basis="restricted"),
         one_electron=np.array(native(ham.one_electron)[0]),
         two_electron=TwoElectron(
             np.array(native(two.array)[0]),

@@ -25,9 +25,11 @@ the m^4 array); values are copied, never computed, so the step is exact and
 
 from __future__ import annotations
 
+import dataclasses
+
 import numpy as np
 
-from ..model import Hamiltonian, Orbitals, TwoElectron
+from ..model import Hamiltonian, TwoElectron
 from .exact import native
 from .history import step_entry
 from .metadata import map_references, occupation_to_spin_orbitals, spin_orbital_irreps
@@ -74,13 +76,8 @@ def to_spin_orbital_step(ham: Hamiltonian, layout: str, notation: str | None = N
     for (s, t), block in blocks.items():
         chem_split[s, :, s, :, t, :, t, :] = block
     orb = ham.orbitals
-    orbitals = Orbitals(
-        count=m,
-        basis="spin-orbital",
-        spin_layout=layout,
-        point_group=orb.point_group,
-        irreps=spin_orbital_irreps(orb.irreps, layout),
-        canonical=orb.canonical,
+    orbitals = dataclasses.replace(
+        orb, count=m, basis="spin-orbital", spin_layout=layout, irreps=spin_orbital_irreps(orb.irreps, layout)
     )
     references = map_references(ham.references, lambda occ, label: occupation_to_spin_orbitals(occ, n, layout))
     result = ham.replace(
@@ -107,13 +104,7 @@ def to_unrestricted_step(ham: Hamiltonian):
     h = native(ham.one_electron)
     eri = native(two.array)
     result = ham.replace(
-        orbitals=Orbitals(
-            count=ham.n,
-            basis="unrestricted",
-            point_group=ham.orbitals.point_group,
-            irreps=ham.orbitals.irreps,
-            canonical=ham.orbitals.canonical,
-        ),
+        orbitals=dataclasses.replace(ham.orbitals, basis="unrestricted"),
         one_electron=np.stack([h, h]),
         two_electron=TwoElectron(
             np.stack([eri, eri, eri]),

@@ -37,7 +37,16 @@ import numpy as np
 from ..blocks import chemist_slabs
 from ..checks.relations import Deviation, Relation, deviation
 from ..errors import FieldError, RefusedError
-from ..indexing import STORAGES, n_pairs, pair_members, two_electron_shape
+from ..indexing import (
+    GATHER_BYTES,
+    STORAGES,
+    n_pairs,
+    pack_pairs,
+    pair_members,
+    pairs_from_unique,
+    two_electron_shape,
+    unique_from_pairs,
+)
 from ..model import Hamiltonian, TwoElectron
 from .exact import bit_views, native
 from .history import step_entry
@@ -61,24 +70,12 @@ GENERATORS = {
 }
 #: packed storages, from least to most packed
 PACKING_ORDER = {"dense": 0, "pairs": 1, "unique": 2}
-#: bytes of dense rows gathered at once while packing
-GATHER_BYTES = 2 * 2**20
 BLOCK_LABELS = ("aa", "ab", "bb")
 
 
 def pairs_of_dense(dense) -> np.ndarray:
     """``pairs[pair(p,q), pair(r,s)] = dense[p,q,r,s]`` (p >= q, r >= s), gathered in row blocks."""
-    dense = np.ascontiguousarray(native(dense))
-    n = dense.shape[-1]
-    flat = dense.reshape(n * n, n * n)
-    p, q = pair_members(n)
-    index = p * n + q
-    npair = len(index)
-    out = np.empty((npair, npair), dtype=dense.dtype)
-    rows = max(1, GATHER_BYTES // (n * n * dense.itemsize))
-    for start in range(0, npair, rows):
-        out[start : start + rows] = flat[index[start : start + rows]][:, index]
-    return out
+    return pack_pairs(native(dense))
 
 
 def unique_of_dense(dense) -> np.ndarray:
@@ -102,25 +99,12 @@ def unique_of_dense(dense) -> np.ndarray:
 
 def unique_of_pairs(pairs) -> np.ndarray:
     """The lower triangle of a pair matrix, row by row: ``unique[I*(I+1)/2 + J] = pairs[I, J]``."""
-    pairs = native(pairs)
-    npair = pairs.shape[0]
-    out = np.empty(n_pairs(npair), dtype=pairs.dtype)
-    for row in range(npair):
-        offset = row * (row + 1) // 2
-        out[offset : offset + row + 1] = pairs[row, : row + 1]
-    return out
+    return unique_from_pairs(native(pairs))
 
 
 def pairs_of_unique(unique, npair: int) -> np.ndarray:
     """The symmetric pair matrix of a lower triangle: ``pairs[I, J] = pairs[J, I]``, I >= J."""
-    unique = native(unique)
-    out = np.empty((npair, npair), dtype=unique.dtype)
-    for row in range(npair):
-        offset = row * (row + 1) // 2
-        out[row, : row + 1] = unique[offset : offset + row + 1]
-    for row in range(npair):
-        out[row, row + 1 :] = out[row + 1 :, row]
-    return out
+    return pairs_from_unique(native(unique), npair)
 
 
 def dense_of_pairs(pairs, n: int) -> np.ndarray:

@@ -21,6 +21,8 @@ from __future__ import annotations
 
 import numpy as np
 
+from integrity.indexing import unpack_pairs
+
 __all__ = [
     "hubbard",
     "random_restricted",
@@ -44,13 +46,6 @@ def hubbard(sites: int, *, t: float = 1.0, u: float = 0.0, periodic: bool = Fals
     return h, eri
 
 
-def _unpack_pairs(pair_matrix: np.ndarray, n: int) -> np.ndarray:
-    p, q = np.tril_indices(n)
-    index = np.zeros((n, n), dtype=np.int64)
-    index[p, q] = index[q, p] = np.arange(len(p))
-    return pair_matrix[index[:, :, None, None], index[None, None, :, :]]
-
-
 def random_restricted(n: int, rng: np.random.Generator, *, scale: float = 1.0, spread: float = 0.0):
     """Random real ``(h1, eri)`` with 8-fold symmetry; ``eri`` as a PSD pair matrix.
 
@@ -67,7 +62,7 @@ def random_restricted(n: int, rng: np.random.Generator, *, scale: float = 1.0, s
     h = 0.5 * (h + h.T) + np.diag(np.linspace(-spread, spread, n))
     npair = n * (n + 1) // 2
     factor = rng.standard_normal((npair, npair)) * scale
-    return h, _unpack_pairs(factor @ factor.T / npair, n)
+    return h, unpack_pairs(factor @ factor.T / npair, n)
 
 
 def random_unrestricted(n: int, rng: np.random.Generator, *, scale: float = 1.0, spread: float = 0.0):
@@ -80,7 +75,7 @@ def random_unrestricted(n: int, rng: np.random.Generator, *, scale: float = 1.0,
     npair = n * (n + 1) // 2
     left = rng.standard_normal((npair, npair)) * scale
     right = left + 0.3 * scale * rng.standard_normal((npair, npair))
-    gab = _unpack_pairs(left @ right.T / npair, n)
+    gab = unpack_pairs(left @ right.T / npair, n)
     return np.array([ha, hb]), np.array([gaa, gab, gbb])
 
 

@@ -87,6 +87,36 @@ class FCIResult:
         return [root.energy for root in self.roots]
 
 
+@dataclass(frozen=True)
+class Request:
+    """A solve with its sector resolved and its arguments checked, as both engines take it.
+
+    ``need`` is root + nroots (matching states to find); ``spin_target`` the
+    2S actually enforced (None for unrestricted input); ``notes`` collects
+    what the solve reports.
+    """
+
+    basis: str
+    h1: np.ndarray
+    eri: np.ndarray
+    ecore: float
+    n_alpha: int | None
+    n_beta: int | None
+    total: int
+    layout: str | None
+    conserving: bool
+    irreps: object
+    irrep: int | None
+    need: int
+    root: int
+    two_s: int | None
+    spin_target: int | None
+    tol: float
+    max_iter: int
+    memory: int
+    notes: list
+
+
 def _count(field: str, value, low: int, high: int) -> int:
     if not isinstance(value, (int, np.integer)) or isinstance(value, bool):
         raise FieldError(field, f"expected an integer, got {value!r}")
@@ -243,12 +273,11 @@ def solve_arrays(
     if two_s is not None and basis == "unrestricted":
         notes.append("two_s not checked: unrestricted orbitals (no alpha-beta overlap)")
         spin_target = None
-    solve = _solve_pyscf if engine == "pyscf" else _solve_native
-    return solve(
-        basis,
-        h1,
-        eri,
-        float(np.real(ecore)),
+    request = Request(
+        basis=basis,
+        h1=h1,
+        eri=eri,
+        ecore=float(np.real(ecore)),
         n_alpha=n_alpha,
         n_beta=n_beta,
         total=total,
@@ -265,74 +294,83 @@ def solve_arrays(
         memory=memory,
         notes=notes,
     )
+    return (_solve_pyscf if engine == "pyscf" else _solve_native)(request)
 
 
-def _solve_native(
-    basis,
-    h1,
-    eri,
-    ecore,
-    *,
-    n_alpha,
-    n_beta,
-    total,
-    layout,
-    conserving,
-    irreps,
-    irrep,
-    need,
-    root,
-    two_s,
-    spin_target,
-    tol,
-    max_iter,
-    memory,
-    notes,
-):
-    if basis == "spin-orbital":
+def _solve_native(req: Request) -> FCIResult:
+    notes = req.notes
+    if req.basis == "spin-orbital":
         problem = spin_orbital_problem(
-            h1,
-            eri,
-            total,
-            layout,
-            n_alpha=n_alpha if conserving else None,
-            irreps=irreps,
-            irrep=irrep,
-            nroots=need,
-            budget=memory,
+            req.h1,
+            req.eri,
+            req.total,
+            req.layout,
+            n_alpha=req.n_alpha if req.conserving else None,
+            irreps=req.irreps,
+            irrep=req.irrep,
+            nroots=req.need,
+            budget=req.memory,
         )
     else:
         parity = None
-        if spin_target is not None and basis == "restricted" and n_alpha == n_beta:
-            parity = -1 if (spin_target // 2) % 2 else 1
+        if req.spin_target is not None and req.basis == "restricted" and req.n_alpha == req.n_beta:
+            parity = -1 if (req.spin_target // 2) % 2 else 1
             notes.append(f"searched the spin-flip parity {parity:+d} subspace (S {'odd' if parity < 0 else 'even'})")
         problem = two_string_problem(
-            basis, h1, eri, n_alpha, n_beta, irreps=irreps, irrep=irrep, parity=parity, nroots=need, budget=memory
+            req.basis,
+            req.h1,
+            req.eri,
+            req.n_alpha,
+            req.n_beta,
+            irreps=req.irreps,
+            irrep=req.irrep,
+            parity=parity,
+            nroots=req.need,
+            budget=req.memory,
         )
     notes.extend(problem.notes)
 
     def check_memory(k):
-        check_budget(with_roots(problem.memory, k, problem.dtype.itemsize), memory)
+        check_budget(with_roots(problem.memory, k, problem.dtype.itemsize), req.memory)
 
     states = lowest_states(
-        problem, need, two_s=spin_target, tol=math.sqrt(tol) / 30.0, max_iter=max_iter, check_memory=check_memory
+        problem,
+        req.need,
+        two_s=req.spin_target,
+        tol=math.sqrt(req.tol) / 30.0,
+        max_iter=req.max_iter,
+        check_memory=check_memory,
     )
-    if states.roots_solved > need:
-        notes.append(f"solved {states.roots_solved} roots to find {need} with 2S = {spin_target}")
-    if basis == "unrestricted":
+    if states.roots_solved > req.need:
+        notes.append(f"solved {states.roots_solved} roots to find {req.need} with 2S = {req.spin_target}")
+    if req.basis == "unrestricted":
         notes.append("<S^2> not available: unrestricted orbitals")
-    states = _with_ecore(states, ecore)
-    return FCIResult(
-        engine="native",
-        roots=_roots(states, root, basis != "unrestricted"),
-        iterations=states.iterations,
+    return _result(
+        req,
+        "native",
+        states,
+        spin_known=req.basis != "unrestricted",
         determinants=problem.ndet,
+        iterations=states.iterations,
         memory_estimate=problem.memory.total,
-        notes=tuple(notes),
-        n_alpha=n_alpha,
-        n_beta=n_beta,
-        n_electrons=total,
-        two_s_checked=None if two_s is None else spin_target is not None,
+        checked=req.spin_target is not None,
+    )
+
+
+def _result(req: Request, engine, states, *, spin_known, determinants, iterations, memory_estimate, checked):
+    """The FCIResult of either engine: ecore added, roots from ``req.root`` on."""
+    states = _with_ecore(states, req.ecore)
+    return FCIResult(
+        engine=engine,
+        roots=_roots(states, req.root, spin_known),
+        iterations=iterations,
+        determinants=determinants,
+        memory_estimate=memory_estimate,
+        notes=tuple(req.notes),
+        n_alpha=req.n_alpha,
+        n_beta=req.n_beta,
+        n_electrons=req.total,
+        two_s_checked=None if req.two_s is None else checked,
     )
 
 
@@ -340,58 +378,34 @@ def _with_ecore(states, ecore):
     return replace(states, energies=states.energies + ecore)
 
 
-def _solve_pyscf(
-    basis,
-    h1,
-    eri,
-    ecore,
-    *,
-    n_alpha,
-    n_beta,
-    total,
-    layout,
-    conserving,
-    irreps,
-    irrep,
-    need,
-    root,
-    two_s,
-    spin_target,
-    tol,
-    max_iter,
-    memory,
-    notes,
-):
-    del conserving, memory  # pyscf checks the blocks and its own memory
-    mapped, h1p, erip = pyscf_arrays(basis, h1, eri, layout)
-    if basis == "spin-orbital":
-        notes.append(f"spin-orbital input passed to pyscf as {mapped} orbitals")
-    checked = spin_target is not None and mapped == "restricted"
+def _solve_pyscf(req: Request) -> FCIResult:
+    # pyscf checks the blocks and manages its own memory
+    mapped, h1p, erip = pyscf_arrays(req.basis, req.h1, req.eri, req.layout)
+    if req.basis == "spin-orbital":
+        req.notes.append(f"spin-orbital input passed to pyscf as {mapped} orbitals")
+    checked = req.spin_target is not None and mapped == "restricted"
     states = pyscf_states(
         mapped,
         h1p,
         erip,
-        n_alpha,
-        n_beta,
-        need=need,
-        two_s=spin_target if checked else None,
-        irreps=irreps,
-        irrep=irrep,
-        tol=tol,
-        max_iter=max_iter,
+        req.n_alpha,
+        req.n_beta,
+        need=req.need,
+        two_s=req.spin_target if checked else None,
+        irreps=req.irreps,
+        irrep=req.irrep,
+        tol=req.tol,
+        max_iter=req.max_iter,
     )
-    if mapped == "unrestricted" and basis == "spin-orbital" and two_s is not None:
-        notes.append("two_s not checked: pyscf takes these alpha and beta blocks as unrestricted")
-    states = _with_ecore(states, ecore)
-    return FCIResult(
-        engine="pyscf",
-        roots=_roots(states, root, mapped == "restricted"),
-        iterations=None,
+    if mapped == "unrestricted" and req.basis == "spin-orbital" and req.two_s is not None:
+        req.notes.append("two_s not checked: pyscf takes these alpha and beta blocks as unrestricted")
+    return _result(
+        req,
+        "pyscf",
+        states,
+        spin_known=mapped == "restricted",
         determinants=states.determinants,
+        iterations=None,
         memory_estimate=None,
-        notes=tuple(notes),
-        n_alpha=n_alpha,
-        n_beta=n_beta,
-        n_electrons=total,
-        two_s_checked=None if two_s is None else checked,
+        checked=checked,
     )
