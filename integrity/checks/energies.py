@@ -31,6 +31,18 @@ def _layout_hint(ham, ref, expected, tolerance):
     return []
 
 
+def _notation_hint(ham, ref, expected, tolerance):
+    """Dense arrays: does the energy match when two_electron is read in the other notation?"""
+    two = ham.two_electron
+    if two.storage != "dense" or two.antisymmetrized:
+        return []
+    other = "physicist" if two.notation == "chemist" else "chemist"
+    relabelled = ham.replace(two_electron=dataclasses.replace(two, notation=other))
+    if abs(np.real(determinant_energy(relabelled, reference_occupation(relabelled, ref))) - expected) <= tolerance:
+        return [f"read as {other} notation, two_electron gives the reference energy: it is probably {other}"]
+    return []
+
+
 def _swapped_hint(ham, ref, expected, tolerance):
     """Unrestricted: does the energy match with alpha and beta exchanged?"""
     if ham.basis != "unrestricted":
@@ -86,6 +98,7 @@ def check_hf(ham, ctx) -> Result:
     hints = constant_hints(ham, worst["difference"], worst["tolerance"])
     hints += _swapped_hint(ham, ref, ref.energy, worst["tolerance"])
     hints += _layout_hint(ham, ref, ref.energy, worst["tolerance"])
+    hints += _notation_hint(ham, ref, ref.energy, worst["tolerance"])
     cause = "; ".join(hints) or (
         "the integrals, the occupation or the reference energy disagree (see two_electron.notation and electrons.count)"
     )
