@@ -276,7 +276,7 @@ def convert(
     ``spin_layout``: "interleaved" or "blocked"; ``antisymmetrize``: store
     <pq||rs> (spin-orbital physicist only; False keeps what the input has);
     ``force``: do lossy steps beyond ``tolerance`` (absolute, hartree) and
-    accept a mismatched checksum, recording what was dropped.
+    accept a mismatched checksum, noting in the history what was dropped.
 
     Memory: each step holds its input and at most one new full array. Steps
     are fused where one copy can do several: a basis change to spin orbitals

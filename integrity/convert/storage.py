@@ -219,7 +219,7 @@ def _refusal(measure: SymmetryMeasure, source: str, target: str, n: int, toleran
         f"packing {source} -> {target} assumes {found.relation.text}, but the array{block} "
         f"breaks it by up to {found.max_abs:.3g} at {_where_text(found, source, n)}, for "
         f"{found.count} of {found.elements} elements beyond the tolerance {tolerance:g}; pass "
-        f"force=True (--force) to pack anyway, keeping the elements with {kept} and recording "
+        f"force=True (--force) to pack anyway, keeping the elements with {kept} and noting "
         "the largest deviation dropped"
     )
 

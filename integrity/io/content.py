@@ -24,7 +24,15 @@ REFERENCE_SCALARS = ("method", "energy", "two_s", "irrep", "root", "tolerance")
 
 
 def plain(value):
-    """NumPy scalars (and lists, tuples, dicts of them) as plain Python values."""
+    """NumPy scalars, arrays and byte strings (and lists, tuples, dicts of them) as plain Python values.
+
+    >>> plain({"n": np.int64(3), "x": np.float32(0.5), "s": np.bytes_(b"ab"), "v": np.array([1, 2])})
+    {'n': 3, 'x': 0.5, 's': 'ab', 'v': [1, 2]}
+    """
+    if isinstance(value, bytes | np.bytes_):
+        return value.decode("utf-8")
+    if isinstance(value, np.ndarray):
+        return plain(value[()]) if value.ndim == 0 else [plain(v) for v in value.tolist()]
     if isinstance(value, np.bool_):
         return bool(value)
     if isinstance(value, np.integer):

@@ -25,7 +25,7 @@ import numpy as np
 
 from ..errors import ContainerError, FieldError
 from .atomic import atomic_output
-from .content import history_entry_from_text
+from .content import history_entry_from_text, plain
 from .document import Document, check_declared_size
 
 ARRAY_DATASETS = ("one_electron", "two_electron")
@@ -79,22 +79,8 @@ class StoredArray:
 
 
 def _plain(value):
-    """An attribute value as a plain Python value."""
-    if isinstance(value, bytes | np.bytes_):
-        return value.decode("utf-8")
-    if isinstance(value, np.ndarray):
-        if value.ndim == 0:
-            return _plain(value[()])
-        return [_plain(v) for v in value.tolist()]
-    if isinstance(value, np.bool_):
-        return bool(value)
-    if isinstance(value, np.integer):
-        return int(value)
-    if isinstance(value, np.floating):
-        return float(value)
-    if isinstance(value, h5py.Empty):
-        return None
-    return value
+    """An attribute value as a plain Python value (an empty HDF5 attribute is None)."""
+    return None if isinstance(value, h5py.Empty) else plain(value)
 
 
 def _attributes(obj) -> dict:
