@@ -99,11 +99,6 @@ def two_electron_shape(basis: str, n: int, storage: str) -> tuple[int, ...]:
     return (3, *block) if basis == "unrestricted" else block
 
 
-def dense_nbytes(n: int, itemsize: int = 8) -> int:
-    """Bytes of one dense n^4 block of the given item size."""
-    return n**4 * itemsize
-
-
 def chemist_to_physicist(chem: np.ndarray) -> np.ndarray:
     """Physicist view of a chemist array: ``phys[p,q,r,s] = chem[p,r,q,s]`` (a view, no copy).
 
