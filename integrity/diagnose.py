@@ -91,14 +91,16 @@ def diagnose(
     method: str | None = None,
     tolerance: float = 1e-6,
     memory: int = DEFAULT_MEMORY,
+    computed: float | None = None,
 ) -> Diagnosis:
     """Compare the file's energy with ``expected`` (or a reference's) and test the hypotheses.
 
     ``method`` is "hf" (the determinant) or "fci"; by default the reference's,
-    or "fci" for a bare expected energy.
+    or "fci" for a bare expected energy. ``computed`` is the file's own energy
+    when the caller already has it (it is not solved again).
     """
     target, expected = _target(ham, expected, reference, method)
-    computed = _energy(ham, target, memory)
+    computed = _energy(ham, target, memory) if computed is None else computed
     difference = expected - computed
     hypotheses = [Hypothesis("as stored", "the file as it is", computed, abs(difference) <= tolerance)]
     if not hypotheses[0].matches:
@@ -236,6 +238,15 @@ def _other_states(ham, target, expected, tolerance, memory) -> list[Hypothesis]:
             )
         )
     return found
+
+
+def likely_causes(ham: Hamiltonian, label: str, computed: float, tolerance: float, memory: int) -> list[str]:
+    """What the energy checks say when a reference is missed: the hypotheses that reproduce it."""
+    finding = diagnose(ham, reference=label, tolerance=tolerance, memory=memory, computed=computed)
+    return [
+        h.description if h.name == "constants" else f"{h.description}: that reproduces the reference energy"
+        for h in finding.explanations
+    ]
 
 
 def render(diagnosis: Diagnosis, path: str) -> str:

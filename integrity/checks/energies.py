@@ -2,59 +2,15 @@
 
 from __future__ import annotations
 
-import dataclasses
-
 import numpy as np
 
-from ..explain import constant_hints
-from ..meanfield import default_occupation, determinant_energy, fock_matrices, reference_occupation
+from ..diagnose import likely_causes
+from ..meanfield import determinant_energy, fock_matrices, reference_occupation
 from .registry import Result, register, skipped
 
 
 def _tolerance(ref, ctx):
     return ref.tolerance if ref.tolerance is not None else ctx.limit
-
-
-def _layout_hint(ham, ref, expected, tolerance):
-    """Spin-orbital: does the energy match when the spin orbitals are read in the other layout?"""
-    if ham.basis != "spin-orbital":
-        return []
-    other = "blocked" if ham.orbitals.spin_layout == "interleaved" else "interleaved"
-    relabelled = ham.replace(orbitals=dataclasses.replace(ham.orbitals, spin_layout=other))
-    electrons = ham.electrons_of(ref)
-    occupation = default_occupation(relabelled, electrons.alpha, electrons.beta)
-    if abs(np.real(determinant_energy(relabelled, occupation)) - expected) <= tolerance:
-        return [
-            f"read as {other}, the lowest alpha and beta spin orbitals give the reference energy: the spin "
-            f"orbitals are probably stored {other}"
-        ]
-    return []
-
-
-def _notation_hint(ham, ref, expected, tolerance):
-    """Dense arrays: does the energy match when two_electron is read in the other notation?"""
-    two = ham.two_electron
-    if two.storage != "dense" or two.antisymmetrized:
-        return []
-    other = "physicist" if two.notation == "chemist" else "chemist"
-    relabelled = ham.replace(two_electron=dataclasses.replace(two, notation=other))
-    if abs(np.real(determinant_energy(relabelled, reference_occupation(relabelled, ref))) - expected) <= tolerance:
-        return [f"read as {other} notation, two_electron gives the reference energy: it is probably {other}"]
-    return []
-
-
-def _swapped_hint(ham, ref, expected, tolerance):
-    """Unrestricted: does the energy match with alpha and beta exchanged?"""
-    if ham.basis != "unrestricted":
-        return []
-    electrons = ham.electrons_of(ref)
-    if electrons.alpha == electrons.beta:
-        return []
-    occupation = reference_occupation(ham, ref)
-    swapped = (tuple(range(len(occupation[1]))), tuple(range(len(occupation[0]))))
-    if abs(np.real(determinant_energy(ham, swapped)) - expected) <= tolerance:
-        return ["the energy matches with the alpha and beta counts exchanged: they may be swapped"]
-    return []
 
 
 @register("energy.hf", limit=1e-6, needs_finite=True)
@@ -95,10 +51,7 @@ def check_hf(ham, ctx) -> Result:
             details=details,
         )
     ref = worst["ref"]
-    hints = constant_hints(ham, worst["difference"], worst["tolerance"])
-    hints += _swapped_hint(ham, ref, ref.energy, worst["tolerance"])
-    hints += _layout_hint(ham, ref, ref.energy, worst["tolerance"])
-    hints += _notation_hint(ham, ref, ref.energy, worst["tolerance"])
+    hints = likely_causes(ham, ref.label, worst["computed"], worst["tolerance"], ctx.memory)
     cause = "; ".join(hints) or (
         "the integrals, the occupation or the reference energy disagree (see two_electron.notation and electrons.count)"
     )

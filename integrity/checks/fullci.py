@@ -2,9 +2,9 @@
 
 from __future__ import annotations
 
+from ..diagnose import likely_causes
 from ..errors import BudgetError, FieldError, UnsupportedError
-from ..explain import constant_hints
-from ..fullci import solve, solve_reference
+from ..fullci import solve_reference
 from ..io import format_bytes
 from .registry import Result, register, skipped
 
@@ -15,41 +15,6 @@ def _tolerance(ref, ctx):
 
 def _engines(ctx):
     return ("native", "pyscf") if ctx.engine == "both" else (ctx.engine,)
-
-
-def _other_states_hint(ham, ref, expected, tolerance, memory) -> list[str]:
-    """Does the expected energy belong to another state of the same electron counts?"""
-    electrons = ham.electrons_of(ref)
-    try:
-        states = solve(ham, alpha=electrons.alpha, beta=electrons.beta, roots=6, memory=memory)
-    except (BudgetError, FieldError, UnsupportedError):
-        return []
-    for index, state in enumerate(states.roots):
-        if abs(state.energy - expected) <= tolerance:
-            spin = f"2S = {state.two_s}" if state.two_s is not None else "unknown 2S"
-            irrep = f", irrep {state.irrep}" if state.irrep is not None else ""
-            return [
-                f"the expected energy is that of state {index} of this sector ({spin}{irrep}): the reference "
-                "may describe another spin state or root than it says"
-            ]
-    return []
-
-
-def _swapped_hint(ham, ref, expected, tolerance, memory) -> list[str]:
-    """Unrestricted: does the energy match with the alpha and beta counts exchanged?"""
-    electrons = ham.electrons_of(ref)
-    if ham.basis != "unrestricted" or electrons.alpha == electrons.beta:
-        return []
-    try:
-        swapped = solve(ham, alpha=electrons.beta, beta=electrons.alpha, root=ref.root or 0, memory=memory)
-    except (BudgetError, FieldError, UnsupportedError):
-        return []
-    if abs(swapped.roots[0].energy - expected) <= tolerance:
-        return [
-            f"with {electrons.beta} alpha and {electrons.alpha} beta electrons full CI gives the reference "
-            "energy: the alpha and beta counts are probably swapped"
-        ]
-    return []
 
 
 def _solve_one(ham, ref, engine, ctx):
@@ -132,11 +97,7 @@ def check_fci(ham, ctx) -> Result:
     elif kind == "spin":
         message = f"reference {ref.label!r}: the state found has {found}, not 2S = {ref.two_s}"
     else:
-        hints = (
-            constant_hints(ham, difference, tolerance)
-            or _swapped_hint(ham, ref, ref.energy, tolerance, ctx.memory)
-            or _other_states_hint(ham, ref, ref.energy, tolerance, ctx.memory)
-        )
+        hints = likely_causes(ham, ref.label, first["energy"], tolerance, ctx.memory)
         notes = [note for note in first["notes"] if "not conserved" in note]
         cause = "; ".join(hints + notes) or "the integrals, the electron counts or the reference disagree"
         message = (
