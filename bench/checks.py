@@ -45,7 +45,7 @@ def coulomb_like_pairs(n: int, points: int, seed: int) -> np.ndarray:
 
 def symmetric_array(n: int, rank: int, seed: int = 7) -> np.ndarray:
     """A dense chemist array with exact 8-fold symmetry, Coulomb-like, pair-matrix rank ``rank``."""
-    from integrity.indexing import pair_table
+    from integrity.model.indexing import pair_table
 
     pairs = coulomb_like_pairs(n, rank, seed)
     table = pair_table(n)
@@ -56,7 +56,7 @@ def symmetric_array(n: int, rank: int, seed: int = 7) -> np.ndarray:
 
 
 def hamiltonian_of(eri: np.ndarray):
-    from integrity.model import Electrons, Hamiltonian, Orbitals, TwoElectron
+    from integrity.model.hamiltonian import Electrons, Hamiltonian, Orbitals, TwoElectron
 
     n = eri.shape[0]
     return Hamiltonian(Orbitals(n, "restricted"), Electrons(1, 1), 0.0, np.eye(n), TwoElectron(eri, notation="chemist"))
@@ -98,8 +98,8 @@ def write_hdf5(path: Path, n: int, rank: int, seed: int = 11) -> None:
     """A dense n^4 chemist file written slab by slab (never whole in memory)."""
     import h5py
 
-    from integrity.fingerprint import fingerprint
-    from integrity.indexing import pair_table
+    from integrity.model.fingerprint import fingerprint
+    from integrity.model.indexing import pair_table
 
     pairs = coulomb_like_pairs(n, rank, seed)
     table = pair_table(n)

@@ -30,8 +30,8 @@ import tracemalloc
 import numpy as np
 
 from integrity.convert import convert
-from integrity.indexing import n_pairs, unpack_pairs
-from integrity.model import Electrons, Hamiltonian, Orbitals, TwoElectron
+from integrity.model.hamiltonian import Electrons, Hamiltonian, Orbitals, TwoElectron
+from integrity.model.indexing import n_pairs, unpack_pairs
 
 GOAL_RATIO = 5.0
 #: the input plus at most one more copy (the output of a transposed copy is that copy);

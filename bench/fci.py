@@ -52,7 +52,7 @@ def worker(engine: str, path: str) -> None:
     sys.path.insert(0, str(ROOT))
     from pyscf import fci
 
-    from integrity.fci import solve_arrays
+    from integrity.solver import solve_arrays
 
     data = np.load(path)
     h1, eri, ecore, n = data["h1"], data["eri"], float(data["ecore"]), int(data["n"])
@@ -122,7 +122,7 @@ def main() -> None:
                 flush=True,
             )
     sys.path.insert(0, str(ROOT))
-    from integrity.fci import estimate_memory
+    from integrity.solver import estimate_memory
 
     need = estimate_memory("restricted", 14, n_alpha=7, n_beta=7)
     verdict = "fits" if need <= 24 * GIB else "does not fit"

@@ -3,26 +3,24 @@
 The jobs as plain functions (the command line is a thin layer over them)::
 
     ham = integrity.load("h2.h5")                 # HDF5 or JSON, validated
-    report = integrity.check("h2.h5")             # or check(ham); report.status is pass/fail/error
+    report = integrity.check("h2.h5")             # or check(ham); report.status is pass/fail/unreadable
     result = integrity.solve(ham, roots=3)        # full CI; result.roots[i].energy, .two_s
     other = integrity.convert(ham, notation="physicist", basis="spin-orbital")
     integrity.save(other.hamiltonian, "h2_so.json")
     finding = integrity.diagnose(ham, expected=-1.1373)
 """
 
-from __future__ import annotations
-
-__version__ = "0.1.0"
-
-from .checks import FileReport, check, check_paths
-from .diagnose import diagnose
-from .errors import IntegrityError
-from .fingerprint import fingerprint
-from .fullci import solve
-from .io import load, save
-from .model import Electrons, Hamiltonian, Orbitals, Reference, TwoElectron
+from integrity._version import __version__
+from integrity.checks import BatchReport, CheckOptions, FileReport, check, check_paths
+from integrity.convert import convert, convert_file
+from integrity.energies import diagnose, solve
+from integrity.errors import IntegrityError
+from integrity.io import load, save
+from integrity.model import Electrons, Hamiltonian, Orbitals, Reference, TwoElectron, fingerprint
 
 __all__ = [
+    "BatchReport",
+    "CheckOptions",
     "Electrons",
     "FileReport",
     "Hamiltonian",

@@ -1,5 +1,5 @@
 """``python -m integrity`` runs the command line."""
 
-from .cli import main
+from integrity.cli import main
 
 main(prog_name="integrity")

@@ -1,6 +1,6 @@
 """The project's exception hierarchy.
 
-Library code raises these; only ``integrity.cli`` turns them into exit codes
+Library code raises these; only ``integrity.cli.commands`` turns them into exit codes
 (every :class:`IntegrityError` is exit status 2: the input could not be used
 or the request was refused). A message always names the file (when there is
 one) and the field, and says what was expected.

@@ -1,12 +1,18 @@
-"""Energies that need no diagonalization: the reference determinant, and the Brillouin condition."""
+"""Energies the file must reproduce: ``energy.hf`` (the reference determinant,
+from Fock matrices) and ``energy.fci`` (full CI, by our solver and on request pyscf's).
+
+A reference missed is explained through :func:`integrity.energies.diagnose.likely_causes`."""
 
 from __future__ import annotations
 
 import numpy as np
 
-from ..diagnose import likely_causes
-from ..meanfield import determinant_energy, fock_matrices, reference_occupation
-from .registry import Result, register, skipped
+from integrity.checks.registry import Result, at_field, failed, passed, register, skipped
+from integrity.energies.diagnose import likely_causes
+from integrity.energies.meanfield import determinant_energy, reference_occupation
+from integrity.energies.solve import solve_reference
+from integrity.errors import BudgetError, FieldError, UnsupportedError
+from integrity.io import format_bytes
 
 
 def _tolerance(ref, ctx):
@@ -18,7 +24,7 @@ def check_hf(ham, ctx) -> Result:
     """The reference-determinant energy against each hf reference."""
     refs = [r for r in ham.references if r.method == "hf"]
     if not refs:
-        return skipped("energy.hf", "no hf reference stored")
+        return skipped("no hf reference stored")
     rows, worst = [], None
     for ref in refs:
         occupation = reference_occupation(ham, ref)
@@ -42,9 +48,7 @@ def check_hf(ham, ctx) -> Result:
     failed = abs(worst["difference"]) > worst["tolerance"]
     details = {"references": rows}
     if not failed:
-        return Result(
-            "energy.hf",
-            "pass",
+        return passed(
             f"{len(rows)} hf reference(s) reproduced; largest difference {abs(worst['difference']):.3g}",
             value=abs(worst["difference"]),
             limit=worst["tolerance"],
@@ -55,71 +59,109 @@ def check_hf(ham, ctx) -> Result:
     cause = "; ".join(hints) or (
         "the integrals, the occupation or the reference energy disagree (see two_electron.notation and electrons.count)"
     )
-    return Result(
-        "energy.hf",
-        "fail",
+    return failed(
         f"reference {ref.label!r} says {ref.energy:.10f} but the determinant gives "
         f"{worst['computed']:.10f} (difference {worst['difference']:.3g}, limit {worst['tolerance']:.3g}); "
         f"{cause}",
         value=abs(worst["difference"]),
         limit=worst["tolerance"],
-        where=f"references[{ref.label}]",
+        where=at_field(f"references[{ref.label}]"),
         details=details,
     )
 
 
-def brillouin_blocks(ham, occupation):
-    """(name, matrix block) whose vanishing is the stationarity of the determinant.
-
-    Closed shell, unrestricted and spin-orbital: F^s_ia for each spin s,
-    occupied i and virtual a. Restricted open shell (alpha occupies D + S,
-    beta D): (F^a + F^b)_dv, F^b_ds and F^a_sv.
-    """
-    fock_a, fock_b = fock_matrices(ham, occupation)
-    n = ham.n
-    alpha, beta = (np.asarray(o, dtype=int) for o in occupation)
-    if ham.basis == "restricted" and set(beta.tolist()) != set(alpha.tolist()):
-        doubly = np.intersect1d(alpha, beta)
-        singly = np.setdiff1d(np.union1d(alpha, beta), doubly)
-        empty = np.setdiff1d(np.arange(n), np.union1d(alpha, beta))
-        return [
-            ("(Fa+Fb) doubly-virtual", (fock_a + fock_b)[np.ix_(doubly, empty)], doubly, empty),
-            ("Fb doubly-singly", fock_b[np.ix_(doubly, singly)], doubly, singly),
-            ("Fa singly-virtual", fock_a[np.ix_(singly, empty)], singly, empty),
-        ]
-    if ham.basis == "spin-orbital":
-        occupied = np.union1d(alpha, beta)
-        virtual = np.setdiff1d(np.arange(n), occupied)
-        return [("F occupied-virtual", fock_a[np.ix_(occupied, virtual)], occupied, virtual)]
-    out = []
-    for name, fock, occupied in (("Fa", fock_a, alpha), ("Fb", fock_b, beta)):
-        virtual = np.setdiff1d(np.arange(n), occupied)
-        out.append((f"{name} occupied-virtual", fock[np.ix_(occupied, virtual)], occupied, virtual))
-    return out
+def _engines(ctx):
+    return ("native", "pyscf") if ctx.engine == "both" else (ctx.engine,)
 
 
-@register("orbitals.canonical", limit=1e-6, needs_finite=True)
-def check_canonical(ham, ctx) -> Result:
-    """Brillouin: max |F_ia| over occupied i and virtual a, when the orbitals claim to be canonical."""
-    if not ham.orbitals.canonical:
-        return skipped("orbitals.canonical", "the file does not claim canonical orbitals")
-    ref = next((r for r in ham.references if r.method == "hf"), None)
-    occupation = reference_occupation(ham, ref)
-    worst, where = 0.0, None
-    for name, block, rows, cols in brillouin_blocks(ham, occupation):
-        if block.size and np.abs(block).max() > worst:
-            i, a = np.unravel_index(int(np.argmax(np.abs(block))), block.shape)
-            worst, where = float(np.abs(block).max()), f"{name} ({rows[i]}, {cols[a]})"
-    if worst > ctx.limit:
-        return Result(
-            "orbitals.canonical",
-            "fail",
-            f"the Brillouin condition fails: |F| = {worst:.3g} at {where} (limit {ctx.limit:.3g}); "
-            "the orbitals are not the SCF's for this occupation, or the integrals are altered",
-            value=worst,
-            limit=ctx.limit,
-            where=where,
+def _solve_one(ham, ref, engine, ctx):
+    result = solve_reference(ham, ref, engine=engine, memory=ctx.memory)
+    state = result.roots[0]
+    return {
+        "engine": engine,
+        "energy": state.energy,
+        "two_s": state.two_s,
+        "s_squared": state.s_squared,
+        "irrep": state.irrep,
+        "iterations": result.iterations,
+        "residual": state.residual_norm,
+        "converged": state.converged,
+        "determinants": result.determinants,
+        "notes": list(result.notes),
+    }
+
+
+@register("energy.fci", limit=1e-6, needs_finite=True)
+def check_fci(ham, ctx) -> Result:
+    """Full CI against each fci reference: solved energy, difference, 2S and irrep found, engine."""
+    refs = [r for r in ham.references if r.method == "fci"]
+    if not refs:
+        return skipped("no fci reference stored")
+    rows, problems = [], []
+    for ref in refs:
+        tolerance = _tolerance(ref, ctx)
+        try:
+            solved = [_solve_one(ham, ref, engine, ctx) for engine in _engines(ctx)]
+        except BudgetError as err:
+            size = f"{err.size} determinants, " if err.size else ""
+            needed = f"an estimated {format_bytes(err.needed)}" if err.needed else "more memory"
+            return skipped(
+                f"reference {ref.label!r}: {size}{needed} against the budget of "
+                f"{format_bytes(err.budget or ctx.memory)} (--memory): {err.reason}",
+                details={"determinants": err.size, "estimate": err.needed, "budget": err.budget},
+            )
+        except UnsupportedError as err:
+            return skipped(f"reference {ref.label!r}: {err.reason}")
+        except FieldError as err:
+            return skipped(f"reference {ref.label!r} cannot be solved: {err}")
+        first = solved[0]
+        difference = ref.energy - first["energy"]
+        row = {
+            "label": ref.label,
+            "expected": ref.energy,
+            "difference": difference,
+            "tolerance": tolerance,
+            "solutions": solved,
+        }
+        rows.append(row)
+        if abs(difference) > tolerance:
+            problems.append((abs(difference) - tolerance, ref, first, difference, tolerance, "mismatch"))
+        if len(solved) == 2 and abs(solved[0]["energy"] - solved[1]["energy"]) > tolerance:
+            gap = abs(solved[0]["energy"] - solved[1]["energy"])
+            problems.append((gap, ref, first, solved[1]["energy"] - solved[0]["energy"], tolerance, "engines"))
+        if ref.two_s is not None and first["two_s"] is not None and first["two_s"] != ref.two_s:
+            problems.append((1.0, ref, first, difference, tolerance, "spin"))
+    details = {"references": rows}
+    worst_value = max(abs(r["difference"]) for r in rows)
+    if not problems:
+        engines = " and ".join(_engines(ctx))
+        return passed(
+            f"{len(rows)} fci reference(s) reproduced by {engines}; largest difference {worst_value:.3g}",
+            value=worst_value,
+            limit=rows[0]["tolerance"],
+            details=details,
         )
-    return Result(
-        "orbitals.canonical", "pass", f"Brillouin holds: max |F_ia| = {worst:.3g}", value=worst, limit=ctx.limit
+    _, ref, first, difference, tolerance, kind = max(problems, key=lambda item: item[0])
+    found = f"2S = {first['two_s']}" if first["two_s"] is not None else "2S not determinable"
+    if kind == "engines":
+        message = (
+            f"reference {ref.label!r}: the engines disagree by {abs(difference):.3g} "
+            f"(native {first['energy']:.10f}); one of them is wrong for this Hamiltonian"
+        )
+    elif kind == "spin":
+        message = f"reference {ref.label!r}: the state found has {found}, not 2S = {ref.two_s}"
+    else:
+        hints = likely_causes(ham, ref.label, first["energy"], tolerance, ctx.memory)
+        notes = [note for note in first["notes"] if "not conserved" in note]
+        cause = "; ".join(hints + notes) or "the integrals, the electron counts or the reference disagree"
+        message = (
+            f"reference {ref.label!r} says {ref.energy:.10f} but full CI ({first['engine']}, {found}) "
+            f"gives {first['energy']:.10f} (difference {difference:.3g}, limit {tolerance:.3g}); {cause}"
+        )
+    return failed(
+        message,
+        value=abs(difference),
+        limit=tolerance,
+        where=at_field(f"references[{ref.label}]"),
+        details=details,
     )

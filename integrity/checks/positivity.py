@@ -20,8 +20,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..blocks import chemist_column, chemist_row, chemist_slabs, exchange_diagonal, spin_blocks
-from .registry import Result, register, skipped
+from integrity.checks.registry import Result, at_element, failed, passed, register, skipped
+from integrity.model.slabs import chemist_column, chemist_row, chemist_slabs, exchange_diagonal, spin_blocks
 
 EIGEN_PAIRS = 2000
 
@@ -51,6 +51,13 @@ class PairSpace:
         spin, local = divmod(int(index), self.size_per_spin)
         p, q = int(self.first[local]), int(self.second[local])
         return ("beta " if spin else ("alpha " if self.spins == 2 else "")) + f"pair ({p}, {q})"
+
+    def location(self, index: int):
+        """The pair matrix's diagonal element of a pair: (pq|pq) real, (qp|pq) complex."""
+        spin, local = divmod(int(index), self.size_per_spin)
+        p, q = int(self.first[local]), int(self.second[local])
+        element = (q, p, p, q) if self.complex else (p, q, p, q)
+        return at_element("two_electron", element, ("bb" if spin else "aa") if self.spins == 2 else None)
 
     def _part(self, spin_row, spin_col, p, q):
         """Row (p, q) of block (spin_row, spin_col) over the column pairs of spin_col.
@@ -138,7 +145,7 @@ def cholesky_certificate(space: PairSpace, tolerance: float, max_rank: int):
 
 
 def schwarz_and_diagonals(ham):
-    """(largest Schwarz excess, its index, lowest Coulomb (pp|qq), its index, lowest exchange (pq|qp), index)."""
+    """(largest Schwarz excess, lowest Coulomb (pp|qq), lowest exchange (pq|qp)), each followed by its Location."""
     two = ham.two_electron
     blocks = spin_blocks(two, ham.basis)
     n = ham.n
@@ -150,9 +157,9 @@ def schwarz_and_diagonals(ham):
     coulomb_min, coulomb_at = np.inf, None
     schwarz, schwarz_at = -np.inf, None
     pairs = (
-        [(blocks[0], g[0], g[0], "")]
+        [(blocks[0], g[0], g[0], None)]
         if ham.basis != "unrestricted"
-        else [(blocks[0], g[0], g[0], "aa "), (blocks[1], g[0], g[1], "ab "), (blocks[2], g[1], g[1], "bb ")]
+        else [(blocks[0], g[0], g[0], "aa"), (blocks[1], g[0], g[1], "ab"), (blocks[2], g[1], g[1], "bb")]
     )
     idx = np.arange(n)
     for block, g_left, g_right, label in pairs:
@@ -164,16 +171,16 @@ def schwarz_and_diagonals(ham):
             peak = float(excess.max())
             if peak > schwarz:
                 local = np.unravel_index(int(np.argmax(excess)), excess.shape)
-                schwarz, schwarz_at = peak, label + str((int(local[0]) + p0, *map(int, local[1:])))
+                schwarz, schwarz_at = peak, at_element("two_electron", (int(local[0]) + p0, *local[1:]), label)
             local_rows = np.arange(len(slab))
             coulomb = slab[local_rows[:, None], (local_rows + p0)[:, None], idx[None, :], idx[None, :]].real
             low = float(coulomb.min())
             if low < coulomb_min:
                 i, q = np.unravel_index(int(np.argmin(coulomb)), coulomb.shape)
-                coulomb_min, coulomb_at = low, label + str((int(i + p0),) * 2 + (int(q),) * 2)
-    spin_label = "" if ham.basis != "unrestricted" else ("aa " if exchange_at[0] == 0 else "bb ")
+                coulomb_min, coulomb_at = low, at_element("two_electron", (i + p0, i + p0, q, q), label)
+    spin_label = None if ham.basis != "unrestricted" else ("aa" if exchange_at[0] == 0 else "bb")
     a, b = exchange_at[1]
-    exchange_where = spin_label + str((int(a), int(b), int(b), int(a)))
+    exchange_where = at_element("two_electron", (a, b, b, a), spin_label)
     return schwarz, schwarz_at, coulomb_min, coulomb_at, exchange_min, exchange_where
 
 
@@ -183,11 +190,10 @@ def check_positive(ham, ctx) -> Result:
     two = ham.two_electron
     if not two.is_coulomb:
         return skipped(
-            "two_electron.positive",
             "interaction: model; a model interaction (e.g. an attractive Hubbard U) need not be positive semidefinite",
         )
     if two.antisymmetrized:
-        return skipped("two_electron.positive", "antisymmetrized <pq||rs> is not a Coulomb pair matrix")
+        return skipped("antisymmetrized <pq||rs> is not a Coulomb pair matrix")
     limit = ctx.limit
     space = PairSpace(ham)
     itemsize = 16 if space.complex else 8
@@ -213,7 +219,7 @@ def check_positive(ham, ctx) -> Result:
         faults.append(
             (
                 f"the pair matrix is not positive semidefinite: {method} {value:.3g} at {space.label(index)}",
-                space.label(index),
+                space.location(index),
             )
         )
     if coulomb < -limit:
@@ -229,9 +235,7 @@ def check_positive(ham, ctx) -> Result:
         )
     if faults:
         text = "; ".join(f for f, _ in faults)
-        return Result(
-            "two_electron.positive",
-            "fail",
+        return failed(
             f"{text}; a Coulomb operator cannot do this: the array may be in the wrong notation, "
             "altered, or a model interaction (declare interaction: model)",
             value=value,
@@ -241,16 +245,13 @@ def check_positive(ham, ctx) -> Result:
         )
     if not complete:
         return skipped(
-            "two_electron.positive",
             f"pivoted Cholesky reached the memory budget at rank {rank} "
             f"of {space.size} pairs without finishing; raise --memory",
             value=value,
             limit=-limit,
             details=details,
         )
-    return Result(
-        "two_electron.positive",
-        "pass",
+    return passed(
         f"positive semidefinite ({method} {value:.3g} over {space.size} pairs); Coulomb, exchange and Schwarz hold",
         value=value,
         limit=-limit,

@@ -1,36 +1,87 @@
-"""Check results, the registry of checks, and the runner.
+"""Check results and the registry of checks.
 
-Every check is a function ``check(ham, ctx) -> Result`` registered under a
-stable public id. The runner resolves the limit for each check, runs them all,
-and turns an unexpected exception inside one check into that check's ``fail``
-so the others still run. A file passes when no check fails; ``warn`` fails a
-file only in strict mode.
+Every check is a function ``check(ham, ctx) -> Result`` registered once, with
+its public id, under :func:`register`. The registry owns the ids and their
+order: checks run and are reported in the order they were registered (the
+order :mod:`integrity.checks` imports the families in). A check builds its
+result with :func:`passed`, :func:`failed`, :func:`warned` or
+:func:`skipped`; the runner stamps the id on it, so an id is written once.
 """
 
 from __future__ import annotations
 
 import traceback
 from collections.abc import Callable
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Any
 
-from ..io import DEFAULT_MEMORY
+from integrity.io import DEFAULT_MEMORY
 
 STATUSES = ("pass", "fail", "warn", "skip")
+#: arrays a Location may point into: the two stored arrays, and the Fock matrix built from them
+LOCATION_ARRAYS = ("one_electron", "two_electron", "fock")
+
+
+@dataclass(frozen=True)
+class Location:
+    """Where a finding points: an element of an array, or a field of the file.
+
+    ``array`` is ``one_electron``, ``two_electron`` or ``fock`` (the Fock matrix
+    built from the file), ``index`` the element (dense chemist (p, q, r, s) for
+    the two-electron array whatever its storage; (p, q) for matrices) and
+    ``block`` the spin block (``alpha``/``beta`` for matrices of unrestricted
+    files, ``aa``/``ab``/``bb`` for their two-electron array). Otherwise
+    ``field`` names a field, as the file's container writes it
+    (``references[fci]``, ``/orbitals@count``).
+
+    >>> str(Location(array="two_electron", index=(0, 1, 4, 5), block="ab"))
+    'two_electron ab[0, 1, 4, 5]'
+    >>> Location(field="references[fci]").as_dict()
+    {'field': 'references[fci]'}
+    """
+
+    array: str | None = None
+    index: tuple[int, ...] | None = None
+    block: str | None = None
+    field: str | None = None
+
+    def as_dict(self) -> dict[str, Any]:
+        if self.field is not None:
+            return {"field": self.field}
+        out: dict[str, Any] = {"array": self.array, "index": [int(i) for i in self.index or ()]}
+        if self.block is not None:
+            out["block"] = self.block
+        return out
+
+    def __str__(self) -> str:
+        if self.field is not None:
+            return self.field
+        block = f" {self.block}" if self.block else ""
+        return f"{self.array}{block}[{', '.join(str(int(i)) for i in self.index or ())}]"
+
+
+def at_field(name: str | None) -> Location | None:
+    """A Location naming a field (None stays None)."""
+    return None if name is None else Location(field=name)
+
+
+def at_element(array: str, index, block: str | None = None) -> Location:
+    """A Location naming an array element; ``block`` '' means none."""
+    return Location(array=array, index=tuple(int(i) for i in index), block=block or None)
 
 
 @dataclass(frozen=True)
 class Result:
     """One check's verdict: the measured ``value`` held against ``limit``, the
-    worst place ``where`` (index tuple or field), and a sentence to act on.
-    ``details`` carries further figures (counts, energies, engines)."""
+    worst place ``where``, and a sentence to act on. ``details`` carries further
+    figures (counts, energies, engines)."""
 
     id: str
     status: str
     message: str
     value: float | None = None
     limit: float | None = None
-    where: str | None = None
+    where: Location | None = None
     details: dict[str, Any] = field(default_factory=dict)
 
     def as_dict(self) -> dict[str, Any]:
@@ -39,12 +90,37 @@ class Result:
             "status": self.status,
             "value": self.value,
             "limit": self.limit,
-            "where": self.where,
+            "where": None if self.where is None else self.where.as_dict(),
             "message": self.message,
         }
         if self.details:
             out["details"] = self.details
         return out
+
+
+def _result(status: str, message: str, **figures) -> Result:
+    return Result("", status, message, **figures)
+
+
+def passed(message: str, **figures) -> Result:
+    return _result("pass", message, **figures)
+
+
+def failed(message: str, **figures) -> Result:
+    return _result("fail", message, **figures)
+
+
+def warned(message: str, **figures) -> Result:
+    return _result("warn", message, **figures)
+
+
+def skipped(message: str, **figures) -> Result:
+    return _result("skip", message, **figures)
+
+
+def judged(bad: bool, message: str, **figures) -> Result:
+    """``failed`` when ``bad``, else ``passed`` (the most common shape)."""
+    return _result("fail" if bad else "pass", message, **figures)
 
 
 @dataclass(frozen=True)
@@ -88,13 +164,14 @@ def register(check_id: str, *, limit: float | None = None, needs_hamiltonian: bo
     return decorate
 
 
-def outcome(check_id: str, failed: bool, message: str, **figures) -> Result:
-    """A pass or fail Result (the most common shape)."""
-    return Result(check_id, "fail" if failed else "pass", message, **figures)
+def check_ids() -> list[str]:
+    """Every registered check id, in report order.
 
-
-def skipped(check_id: str, why: str, **figures) -> Result:
-    return Result(check_id, "skip", why, **figures)
+    >>> import integrity.checks
+    >>> check_ids()[:3]
+    ['schema', 'arrays.shape', 'arrays.finite']
+    """
+    return list(REGISTRY)
 
 
 def run_one(spec: CheckSpec, ham, ctx: Context) -> Result:
@@ -103,9 +180,7 @@ def run_one(spec: CheckSpec, ham, ctx: Context) -> Result:
         result = spec.function(ham, ctx)
     except Exception as err:  # a check must never stop the others
         frame = traceback.extract_tb(err.__traceback__)[-1]
-        return Result(
-            spec.id,
-            "fail",
-            f"the check itself failed: {type(err).__name__}: {err} (at {frame.filename.split('/')[-1]}:{frame.lineno})",
+        result = failed(
+            f"the check itself failed: {type(err).__name__}: {err} (at {frame.filename.split('/')[-1]}:{frame.lineno})"
         )
-    return result
+    return replace(result, id=spec.id)

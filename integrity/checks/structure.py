@@ -1,4 +1,4 @@
-"""Checks of form: schema, shapes, finite values, electron counts, core energy parts, checksum."""
+"""Checks of form: schema, shapes, finite values, checksum, electron counts, core energy parts."""
 
 from __future__ import annotations
 
@@ -6,11 +6,11 @@ import math
 
 import numpy as np
 
-from ..blocks import current_slab_bytes
-from ..fingerprint import fingerprint
-from ..model import shape_problems
-from ..schema import schema_problems
-from .registry import Result, outcome, register, skipped
+from integrity.checks.registry import Result, at_element, at_field, failed, judged, passed, register, skipped
+from integrity.io.schema import schema_problems
+from integrity.model.fingerprint import fingerprint
+from integrity.model.hamiltonian import shape_problems
+from integrity.model.slabs import current_slab_bytes
 
 MAX_LISTED = 5
 
@@ -26,8 +26,8 @@ def check_schema(ham, ctx) -> Result:
     """The metadata against schemas/hamiltonian.schema.json (JSON text or HDF5 tree)."""
     doc = ctx.document
     if doc is None:
-        from ..io.content import content_from_hamiltonian
-        from ..io.hdf5 import location, tree_of_content
+        from integrity.io.content import content_from_hamiltonian
+        from integrity.io.hdf5 import location, tree_of_content
 
         tree, entry, locate = tree_of_content(content_from_hamiltonian(ham)), "hdf5_tree", location
     else:
@@ -35,24 +35,20 @@ def check_schema(ham, ctx) -> Result:
     problems = schema_problems(tree, entry)
     build_error = getattr(ctx, "build_error", None)
     if problems:
-        return Result(
-            "schema",
-            "fail",
+        return failed(
             f"{len(problems)} schema problem(s): {_listing(problems, locate)}",
             value=float(len(problems)),
             limit=0.0,
-            where=locate(problems[0].path),
+            where=at_field(locate(problems[0].path)),
         )
     if build_error is not None and not _is_shape_error(build_error):
-        return Result(
-            "schema",
-            "fail",
+        return failed(
             f"the metadata is inconsistent: {build_error}",
             value=1.0,
             limit=0.0,
-            where=build_error.field,
+            where=at_field(build_error.field),
         )
-    return Result("schema", "pass", f"the metadata follows the schema ({entry})", value=0.0, limit=0.0)
+    return passed(f"the metadata follows the schema ({entry})", value=0.0, limit=0.0)
 
 
 def _is_shape_error(error) -> bool:
@@ -103,7 +99,7 @@ def check_shapes(ham, ctx) -> Result:
         two_node = tree.get("two_electron") if isinstance(tree.get("two_electron"), dict) else {}
         count, basis = orbitals.get("count"), orbitals.get("basis")
         if declared is None or not isinstance(count, int) or basis is None:
-            return skipped("arrays.shape", "the file does not state orbitals.count, basis and both array shapes")
+            return skipped("the file does not state orbitals.count, basis and both array shapes")
         one, two = declared["one_electron"], declared["two_electron"]
         problems = list(
             shape_problems(
@@ -136,8 +132,8 @@ def check_shapes(ham, ctx) -> Result:
         )
     if problems:
         text = "; ".join(f"{field}: {reason}" for field, reason in problems[:MAX_LISTED])
-        return Result("arrays.shape", "fail", text, value=float(len(problems)), limit=0.0, where=problems[0][0])
-    return Result("arrays.shape", "pass", f"shapes and dtypes fit {count} {basis} orbitals", value=0.0, limit=0.0)
+        return failed(text, value=float(len(problems)), limit=0.0, where=at_field(problems[0][0]))
+    return passed(f"shapes and dtypes fit {count} {basis} orbitals", value=0.0, limit=0.0)
 
 
 def _dtype(name):
@@ -159,21 +155,19 @@ def check_finite(ham, ctx) -> Result:
         index, count = _first_non_finite(array, current_slab_bytes())
         total += count
         if index is not None and first is None:
-            first = f"{name}[{', '.join(map(str, index))}]"
+            first = at_element(name, index)
     total += len(bad_scalars)
     if first is None and bad_scalars:
-        first = bad_scalars[0][0]
+        first = at_field(bad_scalars[0][0])
     if total:
-        return Result(
-            "arrays.finite",
-            "fail",
+        return failed(
             f"{total} value(s) are NaN or infinite, first at {first}; the producer may have "
             "written an undefined integral or the file was damaged",
             value=float(total),
             limit=0.0,
             where=first,
         )
-    return Result("arrays.finite", "pass", "every value is finite", value=0.0, limit=0.0)
+    return passed("every value is finite", value=0.0, limit=0.0)
 
 
 def _first_non_finite(array, slab_bytes):
@@ -196,6 +190,23 @@ def _first_non_finite(array, slab_bytes):
             first = (int(local[0]) + start, *(int(i) for i in local[1:]))
         count += found
     return first, count
+
+
+@register("checksum")
+def check_checksum(ham, ctx) -> Result:
+    """The fingerprint recomputed against the stored checksum."""
+    if ham.checksum is None:
+        return skipped("no checksum stored")
+    computed = fingerprint(ham)
+    if computed != ham.checksum:
+        return failed(
+            f"stored {ham.checksum[:19]}... but the content gives {computed[:19]}...; the data or the "
+            "identifying metadata changed after the checksum was written (an altered or truncated "
+            "transfer, or an edit without a new fingerprint)",
+            where=at_field("checksum"),
+            details={"stored": ham.checksum, "computed": computed},
+        )
+    return passed("the fingerprint matches the stored checksum", details={"computed": computed})
 
 
 @register("electrons.count")
@@ -252,10 +263,8 @@ def check_electrons(ham, ctx) -> Result:
                 problems += _spin_orbital_occupation_problems(ham, where, ref.occupation)
     if problems:
         text = "; ".join(f"{field}: {reason}" for field, reason in problems[:MAX_LISTED])
-        return Result("electrons.count", "fail", text, value=float(len(problems)), limit=0.0, where=problems[0][0])
-    return Result(
-        "electrons.count",
-        "pass",
+        return failed(text, value=float(len(problems)), limit=0.0, where=at_field(problems[0][0]))
+    return passed(
         f"{ham.electrons.alpha} alpha and {ham.electrons.beta} beta electrons fit {per_spin} orbitals "
         "per spin; every reference is reachable",
         value=0.0,
@@ -264,7 +273,7 @@ def check_electrons(ham, ctx) -> Result:
 
 
 def _spin_orbital_occupation_problems(ham, where, occupation):
-    from ..indexing import spin_of_spin_orbitals
+    from integrity.model.indexing import spin_of_spin_orbitals
 
     spins = spin_of_spin_orbitals(ham.n, ham.orbitals.spin_layout)
     found = []
@@ -285,7 +294,7 @@ def check_core_parts(ham, ctx) -> Result:
     """The parts of the core energy add up to core_energy."""
     parts = ham.core_energy_parts
     if not parts:
-        return skipped("core_energy.parts", "no core_energy_parts stored")
+        return skipped("no core_energy_parts stored")
     total = float(sum(parts.values()))
     difference = abs(total - ham.core_energy)
     if difference > ctx.limit:
@@ -300,65 +309,12 @@ def check_core_parts(ham, ctx) -> Result:
             if abs(abs(value) - difference) <= ctx.limit and value != 0
         ]
         cause = "; ".join(hints + missing) or "a part is missing, or core_energy was edited alone"
-        return outcome(
-            "core_energy.parts",
+        return judged(
             True,
             f"the parts add up to {total:.12g} but core_energy is {ham.core_energy:.12g} "
             f"(difference {difference:.3g}); {cause}",
             value=difference,
             limit=ctx.limit,
-            where="core_energy",
+            where=at_field("core_energy"),
         )
-    return outcome(
-        "core_energy.parts", False, f"{len(parts)} part(s) add up to core_energy", value=difference, limit=ctx.limit
-    )
-
-
-@register("checksum")
-def check_checksum(ham, ctx) -> Result:
-    """The fingerprint recomputed against the stored checksum."""
-    if ham.checksum is None:
-        return skipped("checksum", "no checksum stored")
-    computed = fingerprint(ham)
-    if computed != ham.checksum:
-        return Result(
-            "checksum",
-            "fail",
-            f"stored {ham.checksum[:19]}... but the content gives {computed[:19]}...; the data or the "
-            "identifying metadata changed after the checksum was written (an altered or truncated "
-            "transfer, or an edit without a new fingerprint)",
-            where="checksum",
-            details={"stored": ham.checksum, "computed": computed},
-        )
-    return Result("checksum", "pass", "the fingerprint matches the stored checksum", details={"computed": computed})
-
-
-@register("one_electron.hermitian", limit=1e-10, needs_finite=True)
-def check_hermitian(ham, ctx) -> Result:
-    """max |h - h^dagger| per spin block."""
-    h = np.asarray(ham.one_electron)
-    blocks = [("alpha", h[0]), ("beta", h[1])] if ham.basis == "unrestricted" else [("", h)]
-    worst, where, broken = 0.0, None, 0
-    for label, block in blocks:
-        deviation = np.abs(block - block.conj().T)
-        peak = float(deviation.max())
-        broken += int(np.count_nonzero(np.triu(deviation > ctx.limit, 1)))
-        if peak > worst:
-            p, q = np.unravel_index(int(np.argmax(deviation)), deviation.shape)
-            worst, where = peak, (f"{label} " if label else "") + f"({p}, {q})"
-    if worst > ctx.limit:
-        cause = (
-            "the matrix may be stored transposed with complex values"
-            if ham.is_complex
-            else ("an element was altered, or the matrix is not the one-electron Hamiltonian")
-        )
-        return outcome(
-            "one_electron.hermitian",
-            True,
-            f"h is not Hermitian: {broken} pair(s) differ by more than the limit, largest "
-            f"{worst:.3g} at {where}; {cause}",
-            value=worst,
-            limit=ctx.limit,
-            where=where,
-        )
-    return outcome("one_electron.hermitian", False, "h equals its conjugate transpose", value=worst, limit=ctx.limit)
+    return judged(False, f"{len(parts)} part(s) add up to core_energy", value=difference, limit=ctx.limit)

@@ -14,8 +14,8 @@ All return a :class:`ConversionResult` (the Hamiltonian and the history
 entries appended to its ``provenance.history``).
 """
 
-from .files import convert_file
-from .pipeline import (
+from integrity.convert.files import convert_file
+from integrity.convert.pipeline import (
     ConversionResult,
     Target,
     antisymmetrize,

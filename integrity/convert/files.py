@@ -2,7 +2,7 @@
 
 The input is never overwritten: an output that resolves to the input file
 (the same path, a symbolic link to it, or a hard link) is refused even with
-``force_overwrite``. An existing output is refused unless ``force_overwrite``,
+``overwrite``. An existing output is refused unless ``overwrite``,
 and the output is written atomically by :func:`integrity.io.save`. A
 container change (``.h5`` <-> ``.json``) is one more history entry; it
 changes nothing in the content, so not the fingerprint. JSON cannot hold NaN
@@ -11,7 +11,7 @@ element (by :mod:`integrity.io.jsonfile`).
 
 >>> import pathlib, tempfile, numpy as np
 >>> from integrity.io import load, save
->>> from integrity.model import Hamiltonian, Orbitals, Electrons, TwoElectron
+>>> from integrity.model.hamiltonian import Hamiltonian, Orbitals, Electrons, TwoElectron
 >>> folder = pathlib.Path(tempfile.mkdtemp())
 >>> save(Hamiltonian(Orbitals(1, "restricted"), Electrons(1, 1), 0.0, np.array([[-1.0]]),
 ...                  TwoElectron(np.array([[[[0.5]]]]), notation="chemist")), folder / "h.h5")
@@ -25,11 +25,11 @@ from __future__ import annotations
 import os
 from pathlib import Path
 
-from ..errors import IntegrityError, RefusedError
-from ..fingerprint import fingerprint
-from ..io import DEFAULT_MEMORY, container_of, load, save
-from .history import step_entry, with_history
-from .pipeline import ConversionResult, convert
+from integrity.convert.history import dated, step_entry, with_history
+from integrity.convert.pipeline import ConversionResult, convert
+from integrity.errors import IntegrityError, RefusedError
+from integrity.io import DEFAULT_MEMORY, container_of, load, save
+from integrity.model.fingerprint import fingerprint
 
 
 def _same_file(first: Path, second: Path) -> bool:
@@ -42,9 +42,11 @@ def _same_file(first: Path, second: Path) -> bool:
 
 
 def convert_file(
-    in_path, out_path, *, force_overwrite: bool = False, memory: int = DEFAULT_MEMORY, **steps
+    in_path, out_path, *, overwrite: bool = False, memory: int = DEFAULT_MEMORY, date: str | None = None, **steps
 ) -> ConversionResult:
     """Convert the file ``in_path`` into ``out_path``; ``steps`` are :func:`convert`'s keywords.
+
+    ``date`` (YYYY-MM-DD) dates the history entries; today, UTC, when None.
 
     Returns the result as written (its ``hamiltonian.checksum`` is the one
     stored in ``out_path``). ``memory`` bounds what the input may declare.
@@ -54,19 +56,19 @@ def convert_file(
         raise RefusedError(
             None,
             f"the output {out_path} is the input file {in_path}; a conversion "
-            "never overwrites its input (even with force), write to a new path",
+            "never overwrites its input (not even with --overwrite), write to a new path",
             str(out_path),
         )
     source, target = container_of(in_path), container_of(out_path)
     ham = load(in_path, memory=memory)
     try:
-        result = convert(ham, **steps)
+        result = convert(ham, date=date, **steps)
     except IntegrityError as err:
         raise err.in_file(in_path) from None
     written, entries = result.hamiltonian, list(result.steps)
     if source != target:
-        entry = step_entry("container", source, target, fingerprint_changed=False)
+        (entry,) = dated([step_entry("container", source, target, fingerprint_changed=False)], date)
         written, entries = with_history(written, [entry]), [*entries, entry]
     written = written.replace(checksum=fingerprint(written))
-    save(written, out_path, force=force_overwrite, fingerprint_checksum=False)
+    save(written, out_path, overwrite=overwrite, fingerprint_checksum=False)
     return ConversionResult(written, tuple(entries))

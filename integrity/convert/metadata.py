@@ -2,7 +2,7 @@
 
 Spatial orbital p with spin s (0 alpha, 1 beta) is spin orbital
 ``P = 2*p + s`` (interleaved) or ``P = p + s*n`` (blocked), see
-:mod:`integrity.indexing`. So
+:mod:`integrity.model.indexing`. So
 
 * irreps: ``irreps_so[P] = irreps[p]`` (a spin orbital has its spatial
   orbital's irrep); back, alpha and beta spin orbitals of one spatial orbital
@@ -26,9 +26,9 @@ import dataclasses
 
 import numpy as np
 
-from ..errors import RefusedError
-from ..indexing import spatial_of_spin_orbitals, spin_of_spin_orbitals, spin_orbital_index
-from ..model import Reference
+from integrity.errors import RefusedError
+from integrity.model.hamiltonian import Reference
+from integrity.model.indexing import spatial_of_spin_orbitals, spin_of_spin_orbitals, spin_orbital_index
 
 SPIN_NAMES = ("alpha", "beta")
 

@@ -5,7 +5,7 @@ spin layout, notation, antisymmetrization, storage. Every step is exact
 (values copied or permuted, never recomputed) except
 
 * packing (dense -> pairs -> unique), which drops the elements it assumes
-  equal to their partners: refused beyond ``tolerance`` unless ``force``;
+  equal to their partners: refused beyond ``tolerance`` unless ``allow_loss``;
 * spin-orbital -> unrestricted/restricted and unrestricted -> restricted,
   which drop blocks they assume zero or equal: refused likewise;
 * antisymmetrization, <pq||rs> = <pq|rs> - <pq|sr>, which cannot be undone:
@@ -16,13 +16,14 @@ use (e.g. ``pairs`` after a change to physicist) becomes ``dense``. A
 spin-orbital result is ``interleaved`` unless ``spin_layout`` says otherwise.
 
 A Hamiltonian that carries a checksum is first checked against its own
-fingerprint: a mismatch is refused unless ``force`` (a converter must not
-launder a damaged file by writing a fresh checksum); forced, the mismatch is
-recorded in the history. The result has ``checksum=None`` and one
-``provenance.history`` entry per step (see :mod:`integrity.convert.history`).
+fingerprint: a mismatch is refused unless ``accept_checksum_mismatch`` (a converter must
+not launder a damaged file by writing a fresh checksum); accepted, the mismatch
+is recorded in the history. The result has ``checksum=None`` and one
+``provenance.history`` entry per step, dated ``date`` (YYYY-MM-DD; today, UTC,
+when None; see :mod:`integrity.convert.history`).
 
 >>> import numpy as np
->>> from integrity.model import Hamiltonian, Orbitals, Electrons, TwoElectron
+>>> from integrity.model.hamiltonian import Hamiltonian, Orbitals, Electrons, TwoElectron
 >>> ham = Hamiltonian(Orbitals(1, "restricted"), Electrons(1, 1), 0.0, np.array([[-1.0]]),
 ...                   TwoElectron(np.array([[[[0.5]]]]), notation="chemist"))
 >>> result = convert(ham, basis="spin-orbital", notation="physicist", antisymmetrize=True)
@@ -40,17 +41,17 @@ from __future__ import annotations
 import dataclasses
 from dataclasses import dataclass
 
-from ..errors import FieldError, RefusedError
-from ..fingerprint import fingerprint
-from ..indexing import BASES, NOTATIONS, SPIN_LAYOUTS, STORAGES
-from ..model import Hamiltonian, TwoElectron
-from .exact import native, same_bits
-from .history import step_entry, with_history
-from .metadata import layout_permutation, map_references, relabelled_irreps, relabelled_occupation
-from .reindex import NOTATION_SWAP, antisymmetrize_in_place, reindexed, spin_split
-from .separate import from_spin_orbital_step, to_restricted_step
-from .spin_orbital import to_spin_orbital_step, to_unrestricted_step
-from .storage import check_tolerance, storage_problem, storage_step
+from integrity.convert.bitwise import native, same_bits
+from integrity.convert.history import dated, step_entry, with_history
+from integrity.convert.metadata import layout_permutation, map_references, relabelled_irreps, relabelled_occupation
+from integrity.convert.reindex import NOTATION_SWAP, antisymmetrize_in_place, reindexed, spin_split
+from integrity.convert.spin_orbital import to_spin_orbital_step, to_unrestricted_step
+from integrity.convert.spin_separation import from_spin_orbital_step, to_restricted_step
+from integrity.convert.storage import require_tolerance, storage_problem, storage_step
+from integrity.errors import FieldError, RefusedError
+from integrity.model.fingerprint import fingerprint
+from integrity.model.hamiltonian import Hamiltonian, TwoElectron
+from integrity.model.indexing import BASES, NOTATIONS, SPIN_LAYOUTS, STORAGES
 
 DEFAULT_LAYOUT = "interleaved"
 
@@ -70,6 +71,10 @@ class ConversionResult:
     def fingerprint_changed(self) -> bool:
         """True when the result's fingerprint differs from the input's (some step changed it)."""
         return any(step["fingerprint_changed"] for step in self.steps)
+
+    def as_dict(self) -> dict:
+        """The steps and the result's stored checksum (None until written)."""
+        return {"steps": [dict(step) for step in self.steps], "checksum": self.hamiltonian.checksum}
 
 
 @dataclass(frozen=True)
@@ -161,20 +166,20 @@ def plan(
     )
 
 
-def _checksum_step(ham: Hamiltonian, force: bool) -> list[dict]:
-    """Refuse (unless forced) a Hamiltonian whose stored checksum is not its fingerprint."""
+def _checksum_step(ham: Hamiltonian, accept_mismatch: bool) -> list[dict]:
+    """Refuse (unless accepted) a Hamiltonian whose stored checksum is not its fingerprint."""
     if ham.checksum is None:
         return []
     computed = fingerprint(ham)
     if computed == ham.checksum:
         return []
-    if not force:
+    if not accept_mismatch:
         raise RefusedError(
             "checksum",
             f"the stored checksum {ham.checksum} does not match the content's fingerprint "
             f"{computed}: the data or its identifying metadata changed after the checksum was "
             "written; converting would write a fresh checksum over a damaged file. Check the "
-            "file, or pass force=True (--force) to convert it anyway",
+            "file, or accept the mismatch (--accept-checksum-mismatch) to convert it anyway",
         )
     return [step_entry("checksum", ham.checksum, computed, fingerprint_changed=False, accepted_mismatch=True)]
 
@@ -246,16 +251,16 @@ def _same_as_plain(array, notation, antisymmetrized, n_spatial) -> bool:
     return same_bits(spin_split(antisymmetrized, n_spatial, "blocked"), source)
 
 
-def _basis_step(ham: Hamiltonian, target: Target, force: bool, tolerance: float):
+def _basis_step(ham: Hamiltonian, target: Target, allow_loss: bool, tolerance: float):
     if target.basis == ham.basis:
         return ham, []
     if target.basis == "spin-orbital":
         return to_spin_orbital_step(ham, target.spin_layout, target.notation)
     if ham.basis == "spin-orbital":
-        return from_spin_orbital_step(ham, target.basis, force=force, tolerance=tolerance)
+        return from_spin_orbital_step(ham, target.basis, allow_loss=allow_loss, tolerance=tolerance)
     if target.basis == "unrestricted":
         return to_unrestricted_step(ham)
-    return to_restricted_step(ham, force=force, tolerance=tolerance)
+    return to_restricted_step(ham, allow_loss=allow_loss, tolerance=tolerance)
 
 
 def convert(
@@ -266,8 +271,10 @@ def convert(
     basis: str | None = None,
     spin_layout: str | None = None,
     antisymmetrize: bool = False,
-    force: bool = False,
+    allow_loss: bool = False,
+    accept_checksum_mismatch: bool = False,
     tolerance: float = 1e-10,
+    date: str | None = None,
 ) -> ConversionResult:
     """Convert ``ham`` (see the module docstring for order, defaults and refusals).
 
@@ -275,8 +282,11 @@ def convert(
     "unique"; ``basis``: "restricted", "unrestricted" or "spin-orbital";
     ``spin_layout``: "interleaved" or "blocked"; ``antisymmetrize``: store
     <pq||rs> (spin-orbital physicist only; False keeps what the input has);
-    ``force``: do lossy steps beyond ``tolerance`` (absolute, hartree) and
-    accept a mismatched checksum, noting in the history what was dropped.
+    ``allow_loss``: do lossy steps beyond ``tolerance`` (absolute, hartree),
+    noting in the history what was dropped; ``accept_checksum_mismatch``:
+    convert a Hamiltonian whose checksum is not its fingerprint (noted in the
+    history); ``date``: the date of the history entries (YYYY-MM-DD; today,
+    UTC, when None).
 
     Memory: each step holds its input and at most one new full array. Steps
     are fused where one copy can do several: a basis change to spin orbitals
@@ -285,9 +295,10 @@ def convert(
     antisymmetrization of an array this call made overwrites it; packing
     gathers into the smaller array.
     """
-    if not isinstance(force, bool):
-        raise FieldError("force", f"expected True or False, got {force!r}")
-    tolerance = check_tolerance(tolerance)
+    for name, flag in (("allow_loss", allow_loss), ("accept_checksum_mismatch", accept_checksum_mismatch)):
+        if not isinstance(flag, bool):
+            raise FieldError(name, f"expected True or False, got {flag!r}")
+    tolerance = require_tolerance(tolerance)
     target = plan(
         ham,
         notation=notation,
@@ -296,7 +307,7 @@ def convert(
         spin_layout=spin_layout,
         antisymmetrize=antisymmetrize,
     )
-    entries = _checksum_step(ham, force)
+    entries = _checksum_step(ham, accept_checksum_mismatch)
     two = ham.two_electron
     needs_dense = (
         target.basis != ham.basis
@@ -308,13 +319,14 @@ def convert(
     if needs_dense and two.storage != "dense":
         current, entry = storage_step(current, "dense")
         entries.append(entry)
-    current, found = _basis_step(current, target, force, tolerance)
+    current, found = _basis_step(current, target, allow_loss, tolerance)
     entries += found
     current, found = _reindex_step(current, target, owned=current is not ham)
     entries += found
-    current, entry = storage_step(current, target.storage, force=force, tolerance=tolerance)
+    current, entry = storage_step(current, target.storage, allow_loss=allow_loss, tolerance=tolerance)
     if entry is not None:
         entries.append(entry)
+    entries = dated(entries, date)
     return ConversionResult(with_history(current, entries), tuple(entries))
 
 
@@ -324,10 +336,10 @@ def convert_notation(ham: Hamiltonian, notation: str) -> ConversionResult:
 
 
 def convert_storage(
-    ham: Hamiltonian, storage: str, *, force: bool = False, tolerance: float = 1e-10
+    ham: Hamiltonian, storage: str, *, allow_loss: bool = False, tolerance: float = 1e-10
 ) -> ConversionResult:
     """Dense <-> pairs <-> unique (see :mod:`integrity.convert.storage`)."""
-    return convert(ham, storage=storage, force=force, tolerance=tolerance)
+    return convert(ham, storage=storage, allow_loss=allow_loss, tolerance=tolerance)
 
 
 def convert_basis(
@@ -335,12 +347,12 @@ def convert_basis(
     basis: str,
     *,
     spin_layout: str | None = None,
-    force: bool = False,
+    allow_loss: bool = False,
     tolerance: float = 1e-10,
 ) -> ConversionResult:
     """Restricted / unrestricted / spin-orbital (see :mod:`integrity.convert.spin_orbital` and
-    :mod:`integrity.convert.separate`)."""
-    return convert(ham, basis=basis, spin_layout=spin_layout, force=force, tolerance=tolerance)
+    :mod:`integrity.convert.spin_separation`)."""
+    return convert(ham, basis=basis, spin_layout=spin_layout, allow_loss=allow_loss, tolerance=tolerance)
 
 
 def convert_spin_layout(ham: Hamiltonian, spin_layout: str) -> ConversionResult:

@@ -28,9 +28,9 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..errors import FieldError
-from ..indexing import SPIN_LAYOUTS
-from .exact import native, same_bits
+from integrity.convert.bitwise import native, same_bits
+from integrity.errors import FieldError
+from integrity.model.indexing import SPIN_LAYOUTS
 
 #: axes of index 2 and index 3 in a split four-index view (each index is (spin, spatial))
 NOTATION_SWAP = (0, 1, 4, 5, 2, 3, 6, 7)

@@ -1,7 +1,7 @@
 """Into spin orbitals: restricted or unrestricted -> spin-orbital, and restricted -> unrestricted.
 
 With ``n`` spatial orbitals and ``m = 2n`` spin orbitals, spin orbital
-``P = P(p, s)`` (see :mod:`integrity.indexing`; s = 0 alpha, 1 beta)::
+``P = P(p, s)`` (see :mod:`integrity.model.indexing`; s = 0 alpha, 1 beta)::
 
     h_so[P(p,s), P(q,t)]                    = h_s[p, q] if s == t else 0
     (P(p,s) P(q,s') | P(r,t) P(u,t'))       = block_st[p, q, r, u] if s == s' and t == t' else 0
@@ -11,10 +11,10 @@ block_st = (pq|ru) restricted; aa, ab, bb for (s, t) = (0,0), (0,1), (1,1);
 and ``block_10[p,q,r,u] = ab[r,u,p,q]`` ((pb qb|ra ua) = (ra ua|pb qb)).
 The result is built in the requested notation directly (one allocation of
 the m^4 array); values are copied, never computed, so the step is exact and
-:mod:`integrity.convert.separate` inverts it bit for bit.
+:mod:`integrity.convert.spin_separation` inverts it bit for bit.
 
 >>> import numpy as np
->>> from integrity.model import Hamiltonian, Orbitals, Electrons, TwoElectron
+>>> from integrity.model.hamiltonian import Hamiltonian, Orbitals, Electrons, TwoElectron
 >>> ham = Hamiltonian(Orbitals(1, "restricted"), Electrons(1, 1), 0.0, np.array([[-1.0]]),
 ...                   TwoElectron(np.array([[[[0.5]]]]), notation="chemist"))
 >>> so, entries = to_spin_orbital_step(ham, "interleaved")
@@ -29,11 +29,11 @@ import dataclasses
 
 import numpy as np
 
-from ..model import Hamiltonian, TwoElectron
-from .exact import native
-from .history import step_entry
-from .metadata import map_references, occupation_to_spin_orbitals, spin_orbital_irreps
-from .reindex import NOTATION_SWAP, spin_split
+from integrity.convert.bitwise import native
+from integrity.convert.history import step_entry
+from integrity.convert.metadata import map_references, occupation_to_spin_orbitals, spin_orbital_irreps
+from integrity.convert.reindex import NOTATION_SWAP, spin_split
+from integrity.model.hamiltonian import Hamiltonian, TwoElectron
 
 
 def _chemist_view(array: np.ndarray, notation: str) -> np.ndarray:

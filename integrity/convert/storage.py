@@ -1,7 +1,7 @@
 """Storage: dense <-> pairs <-> unique, for real chemist arrays.
 
 With the pair index ``pair(p, q) = p*(p+1)/2 + q`` (p >= q) and
-``P = n*(n+1)/2`` (see :mod:`integrity.indexing`)::
+``P = n*(n+1)/2`` (see :mod:`integrity.model.indexing`)::
 
     pairs[pair(p,q), pair(r,s)] = dense[p,q,r,s]              for p >= q, r >= s
     unique[I*(I+1)/2 + J]       = pairs[I, J]                 for I >= J
@@ -12,12 +12,12 @@ Before packing, :func:`measure_symmetry` first asks whether the assumed
 relations hold bit for bit (then packing is exact and the fingerprint is
 unchanged), and otherwise measures how far they are broken with
 :func:`integrity.checks.relations.deviation`. Beyond the tolerance the step
-is refused unless forced; a forced step records the largest deviation dropped.
+is refused unless the loss is allowed; an allowed lossy step records the largest deviation dropped.
 Unpacking is always exact. Unrestricted files pack each of their blocks
 [aa, ab, bb] into ``pairs``; ``unique`` is not defined for them.
 
 >>> import numpy as np
->>> from integrity.indexing import unpack_pairs
+>>> from integrity.model.indexing import unpack_pairs
 >>> pairs = np.array([[1.0, 0.5, 0.25], [0.5, 2.0, 0.125], [0.25, 0.125, 3.0]])
 >>> dense = unpack_pairs(pairs, 2)
 >>> bool(np.array_equal(pairs_of_dense(dense), pairs))
@@ -34,10 +34,12 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..blocks import chemist_slabs
-from ..checks.relations import Deviation, Relation, deviation
-from ..errors import FieldError, RefusedError
-from ..indexing import (
+from integrity.checks.relations import Deviation, Relation, deviation
+from integrity.convert.bitwise import bit_views, native
+from integrity.convert.history import step_entry
+from integrity.errors import FieldError, RefusedError
+from integrity.model.hamiltonian import Hamiltonian, TwoElectron
+from integrity.model.indexing import (
     GATHER_BYTES,
     STORAGES,
     n_pairs,
@@ -47,9 +49,7 @@ from ..indexing import (
     two_electron_shape,
     unique_from_pairs,
 )
-from ..model import Hamiltonian, TwoElectron
-from .exact import bit_views, native
-from .history import step_entry
+from integrity.model.slabs import chemist_slabs
 
 BRA = Relation("(pq|rs) = (qp|rs)", (1, 0, 2, 3))
 KET = Relation("(pq|rs) = (pq|sr)", (0, 1, 3, 2))
@@ -219,12 +219,12 @@ def _refusal(measure: SymmetryMeasure, source: str, target: str, n: int, toleran
         f"packing {source} -> {target} assumes {found.relation.text}, but the array{block} "
         f"breaks it by up to {found.max_abs:.3g} at {_where_text(found, source, n)}, for "
         f"{found.count} of {found.elements} elements beyond the tolerance {tolerance:g}; pass "
-        f"force=True (--force) to pack anyway, keeping the elements with {kept} and noting "
+        f"allow the loss (--allow-loss) to pack anyway, keeping the elements with {kept} and noting "
         "the largest deviation dropped"
     )
 
 
-def check_tolerance(tolerance) -> float:
+def require_tolerance(tolerance) -> float:
     """A tolerance must be a number >= 0 (hartree); returns it as float."""
     if isinstance(tolerance, bool) or not isinstance(tolerance, int | float) or not tolerance >= 0:
         raise FieldError("tolerance", f"expected a number >= 0 (hartree), got {tolerance!r}")
@@ -232,15 +232,15 @@ def check_tolerance(tolerance) -> float:
 
 
 def storage_step(
-    ham: Hamiltonian, storage: str, *, force: bool = False, tolerance: float = 1e-10
+    ham: Hamiltonian, storage: str, *, allow_loss: bool = False, tolerance: float = 1e-10
 ) -> tuple[Hamiltonian, dict | None]:
     """Move the two-electron array to ``storage``; returns (new Hamiltonian, history entry or None).
 
     Refuses (RefusedError) a packing that would drop differences beyond
-    ``tolerance`` unless ``force``; refuses (FieldError) a storage the format
+    ``tolerance`` unless ``allow_loss``; refuses (FieldError) a storage the format
     does not define for this notation, dtype or basis.
     """
-    tolerance = check_tolerance(tolerance)
+    tolerance = require_tolerance(tolerance)
     two = ham.two_electron
     source = two.storage
     if source == storage:
@@ -258,7 +258,7 @@ def storage_step(
         measure = measure_symmetry(blocks, ASSUMED[source, storage], tolerance, GENERATORS[source, storage])
         exact = measure.exact
         if not exact:
-            if measure.max_abs > tolerance and not force:
+            if measure.max_abs > tolerance and not allow_loss:
                 raise RefusedError("two_electron", _refusal(measure, source, storage, n, tolerance))
             extra = {
                 "dropped_max_deviation": measure.max_abs,

@@ -2,7 +2,7 @@
 
 The data goes to a hidden temporary file in the target folder (same file
 system, so the final step is a rename), is flushed to disk, then moved into
-place. Without ``force`` the move is a hard link, which fails if the target
+place. Without ``overwrite`` the move is a hard link, which fails if the target
 appeared meanwhile, so an existing file is never replaced by accident.
 """
 
@@ -13,11 +13,11 @@ import os
 import tempfile
 from pathlib import Path
 
-from ..errors import ContainerError, OverwriteError
+from integrity.errors import ContainerError, OverwriteError
 
 
 @contextlib.contextmanager
-def atomic_output(path, *, force: bool = False):
+def atomic_output(path, *, overwrite: bool = False):
     """Yield a temporary path next to ``path``; on success move it to ``path``.
 
     >>> import tempfile, pathlib
@@ -30,11 +30,11 @@ def atomic_output(path, *, force: bool = False):
     ...     _ = tmp.write_text("again")
     Traceback (most recent call last):
     ...
-    integrity.errors.OverwriteError: ...a.txt: exists; pass force=True (--force) to replace it
+    integrity.errors.OverwriteError: ...a.txt: exists; give --overwrite to replace it
     """
     target = Path(path)
-    if target.exists() and not force:
-        raise OverwriteError(None, "exists; pass force=True (--force) to replace it", str(target))
+    if target.exists() and not overwrite:
+        raise OverwriteError(None, "exists; give --overwrite to replace it", str(target))
     folder = target.parent if str(target.parent) else Path(".")
     if not folder.is_dir():
         raise ContainerError(None, f"folder {str(folder)!r} does not exist", str(target))
@@ -45,7 +45,7 @@ def atomic_output(path, *, force: bool = False):
     try:
         yield tmp
         _flush_to_disk(tmp)
-        if force:
+        if overwrite:
             os.replace(tmp, target)
         else:
             _move_without_clobbering(tmp, target)
@@ -69,9 +69,9 @@ def _move_without_clobbering(tmp: Path, target: Path) -> None:
     try:
         os.link(tmp, target)
     except FileExistsError:
-        raise OverwriteError(None, "exists; pass force=True (--force) to replace it", str(target)) from None
+        raise OverwriteError(None, "exists; give --overwrite to replace it", str(target)) from None
     except OSError:
         # file systems without hard links: the exists() test above is the guard
         if target.exists():
-            raise OverwriteError(None, "exists; pass force=True (--force) to replace it", str(target)) from None
+            raise OverwriteError(None, "exists; give --overwrite to replace it", str(target)) from None
         os.replace(tmp, target)

@@ -5,7 +5,7 @@ them, except that arrays are NumPy arrays (or lazy HDF5 datasets),
 ``two_electron`` holds its array under ``"array"``, ``references`` is a list
 of dicts with their ``label``, and ``orbitals.irreps`` and occupations are
 lists of ints. Each container maps its own encoding to and from this dict;
-this module maps the dict to and from :class:`~integrity.model.Hamiltonian`.
+this module maps the dict to and from :class:`~integrity.model.hamiltonian.Hamiltonian`.
 """
 
 from __future__ import annotations
@@ -15,8 +15,8 @@ from typing import Any
 
 import numpy as np
 
-from ..errors import FieldError
-from ..model import FORMAT_NAME, Electrons, Hamiltonian, Orbitals, Reference, TwoElectron
+from integrity.errors import FieldError
+from integrity.model.hamiltonian import FORMAT_NAME, Electrons, Hamiltonian, Orbitals, Reference, TwoElectron
 
 ORBITAL_KEYS = ("count", "basis", "spin_layout", "point_group", "irreps", "canonical")
 TWO_ELECTRON_FLAGS = ("notation", "storage", "interaction", "antisymmetrized")

@@ -14,7 +14,7 @@ from collections.abc import Callable
 from dataclasses import dataclass, field
 from typing import Any
 
-from ..errors import BudgetError
+from integrity.errors import BudgetError
 
 DEFAULT_MEMORY = 4 * 2**30
 
@@ -100,7 +100,7 @@ def parse_bytes(text: str) -> int:
     return int(value * units[unit])
 
 
-def check_declared_size(field_name: str, shape, itemsize: int, memory: int) -> None:
+def require_declared_size(field_name: str, shape, itemsize: int, memory: int) -> None:
     """Refuse, before allocating, an array whose declared size is beyond the budget."""
     count = 1
     for extent in shape:

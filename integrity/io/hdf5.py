@@ -23,10 +23,10 @@ import json
 import h5py
 import numpy as np
 
-from ..errors import ContainerError, FieldError
-from .atomic import atomic_output
-from .content import history_entry_from_text, plain
-from .document import Document, check_declared_size
+from integrity.errors import ContainerError, FieldError
+from integrity.io.atomic import atomic_output
+from integrity.io.content import history_entry_from_text, plain
+from integrity.io.document import Document, require_declared_size
 
 ARRAY_DATASETS = ("one_electron", "two_electron")
 BOOLEAN_ATTRIBUTES = ("canonical", "antisymmetrized")
@@ -213,7 +213,7 @@ def _content(tree: dict, arrays: dict, memory: int, lazy: bool) -> dict:
         stored = arrays[key]
         keep_on_disk = lazy is True or (lazy == "auto" and stored.nbytes > memory // 4)
         if not keep_on_disk:
-            check_declared_size(key, stored.shape, stored.dtype.itemsize, memory)
+            require_declared_size(key, stored.shape, stored.dtype.itemsize, memory)
             array = stored[()]
         else:
             array = stored
@@ -258,7 +258,7 @@ def tree_of_content(content: dict) -> dict:
 
 
 def write(
-    content: dict, path, *, force: bool = False, compression: str | None = None, compression_opts=None, chunks=None
+    content: dict, path, *, overwrite: bool = False, compression: str | None = None, compression_opts=None, chunks=None
 ) -> None:
     """Write a content dict as an HDF5 file, atomically (see :mod:`integrity.io.atomic`).
 
@@ -268,7 +268,7 @@ def write(
     if compression not in (None, "gzip", "lzf"):
         raise FieldError("compression", f"{compression!r} is not offered; use 'gzip' or 'lzf'")
     options = {"compression": compression, "compression_opts": compression_opts, "chunks": chunks}
-    with atomic_output(path, force=force) as tmp, h5py.File(tmp, "w", track_order=True) as out:
+    with atomic_output(path, overwrite=overwrite) as tmp, h5py.File(tmp, "w", track_order=True) as out:
         for key in ("format", "format_version", "energy_unit", "title", "core_energy", "checksum"):
             if key in content:
                 out.attrs[key] = content[key]

@@ -23,10 +23,10 @@ import uuid
 
 import numpy as np
 
-from ..errors import BudgetError, ContainerError, FieldError
-from .atomic import atomic_output
-from .content import history_entry_from_text
-from .document import Document, format_bytes
+from integrity.errors import BudgetError, ContainerError, FieldError
+from integrity.io.atomic import atomic_output
+from integrity.io.content import history_entry_from_text
+from integrity.io.document import Document, format_bytes
 
 #: parsing JSON numbers costs about this many bytes of memory per byte of text
 PARSE_BYTES_PER_TEXT_BYTE = 3
@@ -108,7 +108,7 @@ def read(path, *, memory: int) -> Document:
 
 
 def _locate(path: tuple) -> str:
-    from ..schema import render_path
+    from integrity.io.schema import render_path
 
     return render_path(path)
 
@@ -190,7 +190,7 @@ def _numbers(values, field: str, expected: int) -> np.ndarray:
     return np.array(values, dtype=np.float64)
 
 
-def write(content: dict, path, *, force: bool = False) -> None:
+def write(content: dict, path, *, overwrite: bool = False) -> None:
     """Write a content dict as JSON, atomically. Refuses NaN and infinities, naming the element."""
     arrays = {}
     skeleton = {}
@@ -204,7 +204,7 @@ def write(content: dict, path, *, force: bool = False) -> None:
             skeleton[key] = value
     _refuse_non_finite_metadata(skeleton)
     text = json.dumps(skeleton, indent=2, ensure_ascii=False, allow_nan=False)
-    with atomic_output(path, force=force) as tmp, open(tmp, "w", encoding="utf-8") as out:
+    with atomic_output(path, overwrite=overwrite) as tmp, open(tmp, "w", encoding="utf-8") as out:
         rest = text
         for token, (field, array, flags) in arrays.items():
             head, rest = rest.split(json.dumps(token), 1)

@@ -8,11 +8,11 @@ import numpy as np
 import pytest
 
 from integrity.checks import check
+from integrity.energies.meanfield import default_occupation, determinant_energy
 from integrity.io import open_document, save
 from integrity.io.hdf5 import StoredArray
-from integrity.meanfield import default_occupation, determinant_energy
-from integrity.model import Reference, TwoElectron
-from integrity.synthetic import random_hamiltonian
+from integrity.model.hamiltonian import Reference, TwoElectron
+from integrity.testing.hamiltonians import random_hamiltonian
 
 
 @pytest.fixture
@@ -54,9 +54,9 @@ def test_a_fault_is_found_block_by_block_too(large_file, tmp_path):
     array[19, 4, 11, 2] += 1e-7
     path = tmp_path / "altered.h5"
     save(ham.replace(two_electron=TwoElectron(array, notation="chemist")), path)
-    result = check(path, memory=BUDGET, select=["two_electron.symmetry"]).results[0]
+    result = check(path, memory=BUDGET, only=["two_electron.symmetry"]).results[0]
     assert result.status == "fail"
-    assert result.where == "(19, 4, 11, 2)"
+    assert result.where.as_dict() == {"array": "two_electron", "index": [19, 4, 11, 2]}
 
 
 def test_the_numpy_memory_of_a_block_by_block_check_stays_within_the_budget(large_file):

@@ -14,9 +14,9 @@ from pyscf import ao2mo, gto, scf
 
 from integrity.checks import check
 from integrity.checks import positivity as positivity_module
-from integrity.indexing import pack_pairs, unique_from_pairs
-from integrity.model import Electrons, Hamiltonian, Orbitals, TwoElectron
-from integrity.synthetic import random_hamiltonian
+from integrity.model.hamiltonian import Electrons, Hamiltonian, Orbitals, TwoElectron
+from integrity.model.indexing import pack_pairs, unique_from_pairs
+from integrity.testing.hamiltonians import random_hamiltonian
 
 MOLECULES = [
     ("O 0 0 0.1173; H 0 0.7572 -0.4692; H 0 -0.7572 -0.4692", "sto-3g"),
@@ -50,7 +50,7 @@ def integrals(request):
 
 def test_pyscf_integrals_are_positive_and_obey_coulomb_exchange_and_schwarz(integrals):
     for eri in integrals:
-        result = check(_ham(eri), select=POSITIVE).results[0]
+        result = check(_ham(eri), only=POSITIVE).results[0]
         assert result.status == "pass", result.message
         assert result.details["schwarz_excess"] <= 1e-10
         assert result.details["coulomb_min"] >= 0
@@ -60,7 +60,7 @@ def test_pyscf_integrals_are_positive_and_obey_coulomb_exchange_and_schwarz(inte
 def test_the_cholesky_path_agrees_with_the_eigenvalue_path(integrals, monkeypatch):
     _, mo = integrals
     monkeypatch.setattr(positivity_module, "EIGEN_PAIRS", 0)
-    result = check(_ham(mo), select=POSITIVE).results[0]
+    result = check(_ham(mo), only=POSITIVE).results[0]
     assert result.status == "pass", result.message
     assert "Cholesky" in result.details["method"]
     assert result.details["cholesky_rank"] <= result.details["pairs"]
@@ -70,7 +70,7 @@ def test_packed_storages_give_the_same_verdict(integrals):
     _, mo = integrals
     pairs = pack_pairs(mo)
     for array, storage in ((pairs, "pairs"), (unique_from_pairs(pairs), "unique")):
-        result = check(_ham(np.ascontiguousarray(array), storage, n=mo.shape[0]), select=POSITIVE).results[0]
+        result = check(_ham(np.ascontiguousarray(array), storage, n=mo.shape[0]), only=POSITIVE).results[0]
         assert result.status == "pass", result.message
 
 
@@ -80,7 +80,7 @@ def _indefinite(mo):
     pairs = pack_pairs(mo)
     values, vectors = np.linalg.eigh(pairs)
     pairs = pairs - 1.5 * values[-1] * np.outer(vectors[:, -1], vectors[:, -1])
-    from integrity.indexing import unpack_pairs
+    from integrity.model.indexing import unpack_pairs
 
     return unpack_pairs(pairs, n), -0.5 * values[-1]
 
@@ -90,7 +90,7 @@ def test_an_indefinite_pair_matrix_fails_by_both_methods(integrals, monkeypatch,
     _, mo = integrals
     monkeypatch.setattr(positivity_module, "EIGEN_PAIRS", eigen_pairs)
     eri, lowest = _indefinite(mo)
-    result = check(_ham(eri), select=POSITIVE).results[0]
+    result = check(_ham(eri), only=POSITIVE).results[0]
     assert result.status == "fail"
     assert result.value < -1e-8
     if eigen_pairs:
@@ -99,7 +99,7 @@ def test_an_indefinite_pair_matrix_fails_by_both_methods(integrals, monkeypatch,
 
 def test_a_physicist_array_labelled_chemist_breaks_the_schwarz_bound(integrals):
     _, mo = integrals
-    result = check(_ham(np.ascontiguousarray(mo.transpose(0, 2, 1, 3))), select=POSITIVE).results[0]
+    result = check(_ham(np.ascontiguousarray(mo.transpose(0, 2, 1, 3))), only=POSITIVE).results[0]
     assert result.status == "fail"
     assert "Schwarz" in result.message or "positive" in result.message
 
@@ -107,20 +107,20 @@ def test_a_physicist_array_labelled_chemist_breaks_the_schwarz_bound(integrals):
 def test_a_model_interaction_is_exempt():
     eri = np.zeros((2, 2, 2, 2))
     eri[0, 0, 0, 0] = eri[1, 1, 1, 1] = -4.0  # attractive Hubbard U
-    assert check(_ham(eri, interaction="model"), select=POSITIVE).results[0].status == "skip"
-    assert check(_ham(eri), select=POSITIVE).results[0].status == "fail"
+    assert check(_ham(eri, interaction="model"), only=POSITIVE).results[0].status == "skip"
+    assert check(_ham(eri), only=POSITIVE).results[0].status == "fail"
 
 
 @pytest.mark.parametrize("basis", ["restricted", "unrestricted"])
 @pytest.mark.parametrize("complex_values", [False, True])
 def test_synthetic_coulomb_integrals_pass_in_every_basis(basis, complex_values):
     ham = random_hamiltonian(basis, 4, complex_values=complex_values, seed=2)
-    assert check(ham, select=POSITIVE).results[0].status == "pass"
+    assert check(ham, only=POSITIVE).results[0].status == "pass"
 
 
 def test_an_unrestricted_file_is_judged_on_the_joint_matrix():
     ham = random_hamiltonian("unrestricted", 3, seed=4)
     eri = np.array(ham.two_electron.array)
     eri[1] *= 3.0  # the ab block alone is fine, but [[aa, ab], [ba, bb]] is no longer PSD
-    result = check(ham.replace(two_electron=TwoElectron(eri, notation="chemist")), select=POSITIVE).results[0]
+    result = check(ham.replace(two_electron=TwoElectron(eri, notation="chemist")), only=POSITIVE).results[0]
     assert result.status == "fail"

@@ -18,7 +18,7 @@ from pyscf import ao2mo, gto, scf
 
 from integrity.checks import check
 from integrity.checks.relations import orbit, relations_for
-from integrity.model import Electrons, Hamiltonian, Orbitals, TwoElectron
+from integrity.model.hamiltonian import Electrons, Hamiltonian, Orbitals, TwoElectron
 
 REAL_EIGHT = [  # (pq|rs) equals X[...] under these index orders (Sherrill, eq. 7)
     (0, 1, 2, 3),
@@ -87,7 +87,7 @@ def test_physicist_relation_matches_an_explicit_loop_on_pyscf_integrals(water):
     phys = np.empty_like(mo)
     for p, q, r, s in itertools.product(range(n), repeat=4):
         phys[p, q, r, s] = mo[p, r, q, s]  # <pq|rs> = (pr|qs)
-    from integrity.indexing import chemist_to_physicist
+    from integrity.model.indexing import chemist_to_physicist
 
     assert np.array_equal(chemist_to_physicist(mo), phys)
 
@@ -107,13 +107,13 @@ def test_pyscf_integrals_pass_the_symmetry_and_notation_checks_in_both_notations
     mol, mf, ao, mo = water
     for eri in (ao, mo, _complex_mo(mol, mf, ao)):
         for notation, array in (("chemist", eri), ("physicist", eri.transpose(0, 2, 1, 3))):
-            report = check(_ham(array, notation), select=["two_electron.symmetry", "two_electron.notation"])
+            report = check(_ham(array, notation), only=["two_electron.symmetry", "two_electron.notation"])
             assert [r.status for r in report.results] == ["pass", "pass"], [r.message for r in report.results]
 
 
 def test_a_physicist_array_labelled_chemist_fails_the_notation_check(water):
     _, _, _, mo = water
-    report = check(_ham(mo.transpose(0, 2, 1, 3), "chemist"), select=["two_electron.notation"])
+    report = check(_ham(mo.transpose(0, 2, 1, 3), "chemist"), only=["two_electron.notation"])
     result = report.results[0]
     assert result.status == "fail"
     assert "physicist" in result.message
@@ -121,6 +121,6 @@ def test_a_physicist_array_labelled_chemist_fails_the_notation_check(water):
 
 def test_a_chemist_array_labelled_physicist_fails_the_notation_check(water):
     _, _, _, mo = water
-    result = check(_ham(mo, "physicist"), select=["two_electron.notation"]).results[0]
+    result = check(_ham(mo, "physicist"), only=["two_electron.notation"]).results[0]
     assert result.status == "fail"
     assert "chemist" in result.message

@@ -2,15 +2,12 @@
 
 from __future__ import annotations
 
-from pathlib import Path
-
 import pytest
+from locations import FIXTURES
 
 from integrity.checks import check
 from integrity.checks.registry import REGISTRY
-from integrity.synthetic import random_hamiltonian
-
-FIXTURES = Path(__file__).resolve().parents[2] / "fixtures"
+from integrity.testing.hamiltonians import random_hamiltonian
 
 
 def test_an_error_inside_one_check_becomes_its_fail_and_the_others_still_run(monkeypatch):
@@ -61,5 +58,5 @@ def test_a_missing_array_makes_the_file_unreadable(tmp_path, missing):
     path = tmp_path / "bad.json"
     path.write_text(json.dumps(document))
     report = check(path)
-    assert report.status == "error"
+    assert report.status == "unreadable"
     assert missing in report.error

@@ -4,7 +4,7 @@ Relations: the real 8-fold group as in Helgaker, Jorgensen, Olsen, *Molecular
 Electronic-Structure Theory* (2000), ch. 9 (cited from memory, as in
 integrity/checks/relations.py; the equation number is not re-checked here);
 the complex 4-fold group and the unrestricted ab block follow from the
-integrals' definitions in format.md (derived in convert_support).
+integrals' definitions in format.md (derived in builders).
 """
 
 from __future__ import annotations
@@ -13,7 +13,7 @@ import itertools
 
 import numpy as np
 import pytest
-from convert_support import complex_chemist, exact_orbits, real_chemist, seeded, unrestricted
+from builders import complex_chemist, exact_orbits, real_chemist, seeded, unrestricted
 
 
 @pytest.mark.parametrize("n", [1, 2, 3, 4])

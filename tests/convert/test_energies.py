@@ -1,6 +1,6 @@
 """Conversions leave the energy unchanged: reference determinants and full CI.
 
-The determinant energy is integrity.meanfield's Slater–Condon expression,
+The determinant energy is integrity.energies.meanfield's Slater–Condon expression,
 E = E_core + sum_i h_ii + 1/2 sum_ij <ij||ij> over occupied spin orbitals
 (Szabo and Ostlund, *Modern Quantum Chemistry*, ch. 2, recalled from memory).
 No energy here is a pinned number: each is computed before and after.
@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
-from convert_support import (
+from builders import (
     PROPERTY_SETTINGS,
     generic_spin_orbital,
     restricted,
@@ -20,9 +20,9 @@ from convert_support import (
 from hypothesis import given
 from hypothesis import strategies as st
 
-from integrity.blocks import dense_chemist
 from integrity.convert import convert
-from integrity.meanfield import determinant_energy, reference_occupation
+from integrity.energies.meanfield import determinant_energy, reference_occupation
+from integrity.model.slabs import dense_chemist
 
 TOL = 1e-10
 
@@ -119,7 +119,7 @@ def test_spin_orbital_and_back_keeps_every_reference_energy(n, is_complex, layou
 
 
 def _fci_energy(ham):
-    from integrity.fci import solve_arrays
+    from integrity.solver import solve_arrays
 
     eri = dense_chemist(ham.two_electron, ham.basis, ham.n)
     kwargs = {"n_alpha": ham.electrons.alpha, "n_beta": ham.electrons.beta}

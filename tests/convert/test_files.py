@@ -7,7 +7,7 @@ import os
 import h5py
 import numpy as np
 import pytest
-from convert_support import (
+from builders import (
     PROPERTY_SETTINGS,
     generic_spin_orbital,
     restricted,
@@ -20,9 +20,9 @@ from hypothesis import strategies as st
 
 from integrity.convert import convert_file
 from integrity.errors import FieldError, OverwriteError, RefusedError
-from integrity.fingerprint import fingerprint
 from integrity.io import load, save
-from integrity.model import TwoElectron
+from integrity.model.fingerprint import fingerprint
+from integrity.model.hamiltonian import TwoElectron
 
 BUILDERS = {
     "restricted": lambda rng, c: restricted(3, rng, is_complex=c),
@@ -77,7 +77,7 @@ def test_a_notation_only_file_conversion_keeps_the_checksum(saved, tmp_path):
 
 
 @pytest.mark.parametrize("alias", ["same", "relative", "symlink", "hardlink"])
-def test_a_conversion_never_writes_onto_its_input_even_with_force(saved, tmp_path, alias):
+def test_a_conversion_never_writes_onto_its_input_even_with_overwrite(saved, tmp_path, alias):
     _, path = saved
     before = path.read_bytes()
     if alias == "same":
@@ -92,7 +92,7 @@ def test_a_conversion_never_writes_onto_its_input_even_with_force(saved, tmp_pat
         out = tmp_path / "hard.h5"
         os.link(path, out)
     with pytest.raises(RefusedError, match=r"is the input file .*never overwrites its input"):
-        convert_file(path, out, notation="physicist", force_overwrite=True, force=True)
+        convert_file(path, out, notation="physicist", overwrite=True, accept_checksum_mismatch=True)
     assert path.read_bytes() == before
 
 
@@ -103,7 +103,7 @@ def test_an_existing_output_is_kept_unless_overwriting_is_asked_for(saved, tmp_p
     with pytest.raises(OverwriteError):
         convert_file(path, out, notation="physicist")
     assert out.read_text() == "{}"
-    convert_file(path, out, notation="physicist", force_overwrite=True)
+    convert_file(path, out, notation="physicist", overwrite=True)
     assert load(out).two_electron.notation == "physicist"
 
 
@@ -120,14 +120,14 @@ def test_a_file_whose_checksum_does_not_match_is_refused_naming_both_fingerprint
         convert_file(path, tmp_path / "out.json")
     message = str(caught.value)
     assert caught.value.field == "checksum" and str(path) in message
-    assert fingerprint(ham) in message and damaged in message and "force=True" in message
+    assert fingerprint(ham) in message and damaged in message and "--accept-checksum-mismatch" in message
     assert not (tmp_path / "out.json").exists()
 
 
 def test_a_forced_conversion_of_a_damaged_file_records_the_mismatch(saved, tmp_path):
     ham, path = saved
     _damage(path)
-    result = convert_file(path, tmp_path / "out.json", force=True)
+    result = convert_file(path, tmp_path / "out.json", accept_checksum_mismatch=True)
     entry = result.steps[0]
     assert (entry["step"], entry["from"], entry["accepted_mismatch"]) == (
         "checksum",

@@ -6,7 +6,7 @@ import itertools
 
 import numpy as np
 import pytest
-from convert_support import (
+from builders import (
     PROPERTY_SETTINGS,
     generic_spin_orbital,
     restricted,
@@ -19,7 +19,7 @@ from hypothesis import strategies as st
 
 from integrity.convert import convert, convert_notation
 from integrity.convert.reindex import swap_notation
-from integrity.fingerprint import fingerprint
+from integrity.model.fingerprint import fingerprint
 
 BUILDERS = {
     "restricted": lambda n, rng, c: restricted(n, rng, is_complex=c),

@@ -6,12 +6,12 @@ import re
 
 import numpy as np
 import pytest
-from convert_support import restricted, same_bits, seeded, unrestricted
+from builders import restricted, same_bits, seeded, unrestricted
 
 import integrity
 from integrity.convert import convert, plan
 from integrity.errors import FieldError, RefusedError
-from integrity.fingerprint import fingerprint
+from integrity.model.fingerprint import fingerprint
 
 
 def test_every_step_appends_one_history_entry_with_tool_date_and_fingerprint_flag():
@@ -78,7 +78,7 @@ def test_metadata_that_is_not_converted_travels_unchanged():
             r"'mixed' is not allowed",
         ),
         ({"tolerance": -1.0}, "tolerance", r"expected a number >= 0 \(hartree\), got -1.0"),
-        ({"force": "yes"}, "force", r"expected True or False, got 'yes'"),
+        ({"allow_loss": "yes"}, "allow_loss", r"expected True or False, got 'yes'"),
         ({"antisymmetrize": 1}, "antisymmetrize", r"expected True or False, got 1"),
     ],
 )
@@ -110,7 +110,7 @@ def test_a_checksum_that_does_not_match_is_refused_before_any_work():
         convert(ham.replace(checksum=stale), notation="physicist")
     assert caught.value.field == "checksum"
     assert stale in str(caught.value) and fingerprint(ham) in str(caught.value)
-    forced = convert(ham.replace(checksum=stale), notation="physicist", force=True)
+    forced = convert(ham.replace(checksum=stale), notation="physicist", accept_checksum_mismatch=True)
     assert [s["step"] for s in forced.steps] == ["checksum", "notation"]
     assert forced.steps[0]["from"] == stale and forced.steps[0]["to"] == fingerprint(ham)
 

@@ -14,7 +14,7 @@ import tracemalloc
 
 import numpy as np
 import pytest
-from convert_support import (
+from builders import (
     PROPERTY_SETTINGS,
     antisymmetrized_of,
     embedded,
@@ -32,9 +32,9 @@ from hypothesis import strategies as st
 
 from integrity.convert import antisymmetrize, convert, convert_basis, convert_spin_layout
 from integrity.errors import FieldError, RefusedError
-from integrity.fingerprint import fingerprint
-from integrity.indexing import unpack_pairs
-from integrity.model import Electrons, Hamiltonian, Orbitals, Reference, TwoElectron
+from integrity.model.fingerprint import fingerprint
+from integrity.model.hamiltonian import Electrons, Hamiltonian, Orbitals, Reference, TwoElectron
+from integrity.model.indexing import unpack_pairs
 
 LAYOUTS = ["interleaved", "blocked"]
 
@@ -179,7 +179,7 @@ def test_alpha_and_beta_spin_orbitals_with_different_irreps_cannot_share_a_spati
         r"have irreps 0 and 2",
     ):
         convert(bad, basis="unrestricted")
-    forced = convert(bad, basis="unrestricted", force=True)
+    forced = convert(bad, basis="unrestricted", allow_loss=True)
     assert forced.hamiltonian.orbitals.irreps is None and forced.steps[-1]["dropped_irreps"] is True
 
 
@@ -212,7 +212,7 @@ def test_a_mixed_spin_two_electron_element_is_refused_naming_its_spin_orbitals()
         r"blocks.*\((\d \d\|2 2|2 2\|\d \d)\) = 0.00781",
     ):
         convert(bad, basis="unrestricted")
-    forced = convert(bad, basis="unrestricted", force=True)
+    forced = convert(bad, basis="unrestricted", allow_loss=True)
     assert forced.steps[-1]["dropped_max_deviation"] == 0.0078125 and forced.steps[-1]["forced"]
 
 
@@ -319,7 +319,7 @@ def test_antisymmetrizing_needs_physicist_notation_and_says_which_flag_to_add():
     [
         ({"notation": "chemist"}, r"cannot be\s+recovered"),
         ({"basis": "restricted"}, r"cannot be\s+recovered"),
-        ({"basis": "unrestricted", "force": True}, r"cannot be\s+recovered"),
+        ({"basis": "unrestricted", "allow_loss": True}, r"cannot be\s+recovered"),
     ],
 )
 def test_undoing_antisymmetrization_is_refused_even_when_forced(request_, match):

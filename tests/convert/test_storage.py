@@ -13,7 +13,7 @@ import tracemalloc
 
 import numpy as np
 import pytest
-from convert_support import (
+from builders import (
     PROPERTY_SETTINGS,
     lower_triangle,
     n_pairs,
@@ -36,9 +36,9 @@ from integrity.convert.storage import (
     unique_of_pairs,
 )
 from integrity.errors import FieldError, RefusedError
-from integrity.fingerprint import fingerprint
-from integrity.indexing import unpack_pairs
-from integrity.model import Electrons, Hamiltonian, Orbitals, TwoElectron
+from integrity.model.fingerprint import fingerprint
+from integrity.model.hamiltonian import Electrons, Hamiltonian, Orbitals, TwoElectron
+from integrity.model.indexing import unpack_pairs
 
 WATER = "O 0 0 0; H 0 0.757 0.587; H 0 -0.757 0.587"
 
@@ -159,13 +159,13 @@ def test_lossy_packing_is_refused_with_the_deviation_where_and_the_tolerance():
     message = str(caught.value)
     assert caught.value.field == "two_electron"
     assert "(pq|rs) = (qp|rs)" in message and "1e-06" in message and "1e-10" in message
-    assert re.search(r"\((0, 1|1, 0), 2, 2\)", message) and "force=True" in message
+    assert re.search(r"\((0, 1|1, 0), 2, 2\)", message) and "--allow-loss" in message
     assert re.search(r"for 2 of 81 elements", message)
 
 
 def test_forced_packing_keeps_the_lower_triangle_and_records_the_deviation_dropped():
     ham = _broken(1e-6)
-    result = convert(ham, storage="pairs", force=True)
+    result = convert(ham, storage="pairs", allow_loss=True)
     entry = result.steps[0]
     kept = result.hamiltonian.two_electron.array[pair(1, 0), pair(2, 2)]
     assert kept == ham.two_electron.array[1, 0, 2, 2]  # p >= q is kept, (0,1,2,2) dropped

@@ -2,16 +2,12 @@
 
 from __future__ import annotations
 
-from pathlib import Path
-
 import pytest
 from click.testing import CliRunner
+from locations import DAMAGED, GOOD
 
 from integrity import diagnose, load
 from integrity.cli import main
-
-DAMAGED = Path(__file__).resolve().parents[2] / "fixtures" / "damaged"
-GOOD = Path(__file__).resolve().parents[2] / "fixtures" / "good"
 
 CASES = [
     ("n2_core_energy_dropped.json", "fci", "constants", "frozen_core"),

@@ -1,0 +1,157 @@
+"""Validate metadata trees against ``schemas/hamiltonian.schema.json``.
+
+The schema file is the single source of truth for the metadata of both
+containers: a JSON document is validated as it is (entry point
+``json_document``); an HDF5 file is read into a tree of groups, attributes and
+dataset descriptors and validated against ``hdf5_tree``, which shares every
+definition but the array encoding.
+
+Long numeric lists (array data) are checked for ``{"type": "number"}`` in one
+pass over their element types instead of item by item; the rule is the same.
+
+>>> problems = schema_problems({"format": "integrity.hamiltonian"}, "json_document")
+>>> problems[0].path, problems[0].message
+(('core_energy',), 'missing: this field is required')
+"""
+
+from __future__ import annotations
+
+import functools
+import json
+import reprlib
+from dataclasses import dataclass
+from importlib import resources
+from pathlib import Path
+
+import jsonschema
+from jsonschema import ValidationError
+from referencing import Registry, Resource
+
+SCHEMA_FILES = {"hamiltonian": "hamiltonian.schema.json", "report": "report.schema.json"}
+_BULK_THRESHOLD = 256
+_short = reprlib.Repr()
+_short.maxstring = 60
+_short.maxlist = 6
+_short.maxdict = 4
+
+
+@dataclass(frozen=True)
+class SchemaProblem:
+    """One schema violation: ``path`` into the tree (keys and list indices),
+    the rule (JSON Schema keyword) and a one-line message."""
+
+    path: tuple
+    rule: str
+    message: str
+
+
+def schema_folder():
+    """Where the schemas are: ``integrity/schemas`` in an installed wheel (the build maps
+    the repository's top-level ``schemas/`` there), or ``schemas/`` beside the package
+    in a source checkout (an editable install)."""
+    packaged = resources.files("integrity").joinpath("schemas")
+    if packaged.is_dir():
+        return packaged
+    return Path(__file__).resolve().parents[2] / "schemas"
+
+
+@functools.cache
+def load_schema(name: str) -> dict:
+    """The parsed schema document ``schemas/<name>.schema.json``."""
+    return json.loads(schema_folder().joinpath(SCHEMA_FILES[name]).read_text("utf-8"))
+
+
+def _bulk_items(validator, items, instance, schema):
+    """``items`` that checks long lists of numbers in one pass, then as usual."""
+    if items == {"type": "number"} and isinstance(instance, list) and len(instance) > _BULK_THRESHOLD:
+        if set(map(type, instance)) <= {float, int}:
+            return
+        for index, item in enumerate(instance):
+            if type(item) not in (float, int):
+                yield ValidationError(f"{_short.repr(item)} is not of type 'number'", path=[index])
+                return
+    yield from _DRAFT.VALIDATORS["items"](validator, items, instance, schema)
+
+
+_DRAFT = jsonschema.Draft202012Validator
+_Validator = jsonschema.validators.extend(_DRAFT, validators={"items": _bulk_items})
+
+
+@functools.cache
+def _validator(name: str, entry: str | None):
+    schema = load_schema(name)
+    registry = Registry().with_resource(schema["$id"], Resource.from_contents(schema))
+    target = schema if entry is None else {"$ref": f"{schema['$id']}#/$defs/{entry}"}
+    _DRAFT.check_schema(schema)
+    return _Validator(target, registry=registry)
+
+
+def schema_problems(tree, entry: str | None = None, name: str = "hamiltonian") -> list[SchemaProblem]:
+    """Every violation of the schema (at ``#/$defs/<entry>``, or the root), sorted by path."""
+    found = []
+    for error in _validator(name, entry).iter_errors(tree):
+        found.extend(_leaves(error))
+    unique = {(p.path, p.message): p for p in found}
+    return sorted(unique.values(), key=lambda p: tuple(str(k) for k in p.path))
+
+
+def _leaves(error: ValidationError) -> list[SchemaProblem]:
+    """The most specific problems behind an error (the leaves of oneOf/anyOf/allOf trees)."""
+    path = tuple(error.absolute_path)
+    if error.validator in ("oneOf", "anyOf") and error.context:
+        return [SchemaProblem(path, error.validator, _any_of_message(error))]
+    if error.validator == "required" and isinstance(error.instance, dict):
+        missing = [key for key in error.validator_value if key not in error.instance]
+        return [SchemaProblem((*path, key), "required", "missing: this field is required") for key in missing]
+    if error.validator == "additionalProperties" and isinstance(error.instance, dict):
+        known = error.schema.get("properties", {})
+        extra = [key for key in error.instance if key not in known]
+        return [
+            SchemaProblem((*path, key), "additionalProperties", "not a field of the format (unexpected key)")
+            for key in extra
+        ]
+    return [SchemaProblem(path, str(error.validator), _message(error))]
+
+
+def _any_of_message(error: ValidationError) -> str:
+    instance = error.instance
+    if isinstance(instance, dict) and "shape" in instance:
+        keys = sorted(k for k in ("data", "real", "imag") if k in instance)
+        return f"an array needs 'data' (real) or both 'real' and 'imag' (complex), got keys {keys}"
+    context = list(error.context)
+    if isinstance(instance, list):
+        # a list was meant as the list form: report what that branch found, not "expected object"
+        context = [e for e in context if e.validator != "type"] or context
+    best = jsonschema.exceptions.best_match(context)
+    if best is None:
+        return f"{_short.repr(instance)} matches no allowed form"
+    where = "".join(f"[{k}]" for k in best.relative_path)
+    return (f"item {where}: " if where else "") + _message(best)
+
+
+def _message(error: ValidationError) -> str:
+    value = error.validator_value
+    shown = _short.repr(error.instance)
+    if error.validator == "type":
+        return f"expected {value}, got {shown}"
+    if error.validator == "enum":
+        return f"{shown} is not one of {value}"
+    if error.validator == "const":
+        return f"expected {value!r}, got {shown}"
+    if error.validator in ("minimum", "maximum", "exclusiveMinimum"):
+        words = {"minimum": "below the minimum", "maximum": "above the maximum", "exclusiveMinimum": "not above"}
+        return f"{shown} is {words[error.validator]} {value}"
+    if error.validator == "not" and isinstance(value, dict) and "required" in value:
+        return f"must not have {value['required']} here"
+    if error.validator == "not" and isinstance(value, dict) and "const" in value:
+        return f"{shown} is not allowed here"
+    message = error.message
+    return message if len(message) <= 200 else message[:197] + "..."
+
+
+def render_path(path: tuple) -> str:
+    """A JSON path as the format names fields: ``references[1].energy``."""
+    out = ""
+    for key in path:
+        out += f"[{key}]" if isinstance(key, int) else (f".{key}" if out else str(key))
+    return out or "(document)"

@@ -1,0 +1,274 @@
+"""Produce a Hamiltonian from a molecule with pyscf.
+
+The orbitals are the SCF's canonical molecular orbitals (RHF for closed
+shells, ROHF for open shells, UHF with ``unrestricted``). An active space
+``(electrons, orbitals)`` keeps the ``orbitals`` orbitals above the lowest
+``(N - electrons)/2`` doubly occupied ones, which are frozen: their energy
+(with the nuclear repulsion) goes into ``core_energy`` and is recorded in
+``core_energy_parts.frozen_core``, and their mean field into ``one_electron``.
+
+References: ``hf`` (the SCF energy, with the occupied active orbitals) and,
+when the determinant space is at most ``max_fci_determinants``, ``fci``
+(pyscf's full CI for the lowest state of the SCF's 2S, with the irrep of
+that state when the molecule has symmetry).
+
+Irreps: pyscf's numbering for D2h and its subgroups, in which a product of
+irreps is the XOR of their numbers, as the format requires. Linear molecules
+are described in D2h (or C2v without inversion).
+"""
+
+from __future__ import annotations
+
+from math import comb
+
+import numpy as np
+
+from integrity._version import __version__
+from integrity.convert import history
+from integrity.errors import FieldError, UnsupportedError
+from integrity.io.xyz import geometry_text, read_geometry
+from integrity.model.hamiltonian import Electrons, Hamiltonian, Orbitals, Reference, TwoElectron
+
+DEFAULT_MAX_FCI_DETERMINANTS = 1_000_000
+LINEAR_SUBGROUP = {"Dooh": "D2h", "Coov": "C2v"}
+
+
+def build(
+    geometry,
+    basis: str,
+    *,
+    unit: str = "angstrom",
+    charge: int = 0,
+    two_s: int = 0,
+    unrestricted: bool = False,
+    active: tuple[int, int] | None = None,
+    symmetry: bool = True,
+    max_fci_determinants: int = DEFAULT_MAX_FCI_DETERMINANTS,
+    title: str | None = None,
+    date: str | None = None,
+) -> Hamiltonian:
+    """Run the SCF with pyscf and return the (active-space) Hamiltonian with references.
+
+    ``geometry`` is an ``.xyz`` file path, a text of atom lines ``SYMBOL X Y Z``, or a
+    list of such lines (see :func:`integrity.io.read_geometry`), in ``unit``.
+
+    ``date`` (YYYY-MM-DD) goes into the provenance; today's date (UTC) when None.
+    """
+    from pyscf import gto
+
+    if unit not in ("angstrom", "bohr"):
+        raise FieldError("unit", f"{unit!r} is not a unit; use 'angstrom' or 'bohr'")
+    atoms = read_geometry(geometry)
+    mol = _molecule(gto, [[symbol, xyz] for symbol, xyz in atoms], basis, unit, charge, two_s, symmetry)
+    mf = _scf(mol, two_s, unrestricted)
+    n_active_electrons, ncore, norb = _active_space(mol, mf, active)
+    n_alpha = (n_active_electrons + two_s) // 2
+    n_beta = (n_active_electrons - two_s) // 2
+    h1, eri, ecore = _integrals(mf, ncore, norb, n_active_electrons, unrestricted)
+    irreps = _active_irreps(mol, mf, ncore, norb, unrestricted)
+    references = [_hf_reference(mf, ncore, norb, unrestricted)]
+    space = comb(norb, n_alpha) * comb(norb, n_beta)
+    if space <= max_fci_determinants:
+        references.append(_fci_reference(h1, eri, ecore, norb, (n_alpha, n_beta), two_s, irreps, unrestricted))
+    basis_kind = "unrestricted" if unrestricted else "restricted"
+    scf_name = type(mf).__name__.replace("SymAdaptedR", "R").replace("SymAdaptedU", "U").replace("SymAdapted", "")
+    enuc = float(mol.energy_nuc())
+    provenance = {
+        "producer": f"integrity {__version__} build",
+        "pyscf_version": _pyscf_version(),
+        "geometry": geometry_text(atoms),
+        "unit": unit,
+        "basis": basis,
+        "charge": int(charge),
+        "two_s": int(two_s),
+        "scf": scf_name,
+        "active_space": f"{n_active_electrons},{norb}" if active else "all orbitals",
+        "frozen_core_orbitals": int(ncore),
+        "date": date or history.today(),
+    }
+    if irreps is not None:
+        provenance["irrep_names"] = " ".join(_irrep_names(mol))
+    formula = _formula([mol.atom_pure_symbol(i) for i in range(mol.natm)])
+    return Hamiltonian(
+        orbitals=Orbitals(
+            count=norb,
+            basis=basis_kind,
+            point_group=mol.groupname if irreps is not None else None,
+            irreps=irreps,
+            canonical=True,
+        ),
+        electrons=Electrons(n_alpha, n_beta),
+        core_energy=float(ecore),
+        core_energy_parts={"nuclear_repulsion": enuc, "frozen_core": float(ecore) - enuc},
+        one_electron=h1,
+        two_electron=TwoElectron(eri, notation="chemist", storage="dense"),
+        references=tuple(references),
+        title=title or f"{formula} {basis} {scf_name}" + (f" CAS({n_active_electrons},{norb})" if active else ""),
+        provenance=provenance,
+    )
+
+
+def _formula(symbols) -> str:
+    """Element symbols in order of first appearance with counts: O H H -> OH2."""
+    counts = {}
+    for symbol in symbols:
+        counts[symbol] = counts.get(symbol, 0) + 1
+    return "".join(s + (str(c) if c > 1 else "") for s, c in counts.items())
+
+
+def _pyscf_version() -> str:
+    import pyscf
+
+    return pyscf.__version__
+
+
+def _molecule(gto, geometry, basis, unit, charge, two_s, symmetry):
+    try:
+        mol = gto.M(atom=geometry, basis=basis, unit=unit, charge=charge, spin=two_s, symmetry=symmetry, verbose=0)
+        if symmetry and mol.groupname in LINEAR_SUBGROUP:
+            mol = gto.M(
+                atom=geometry,
+                basis=basis,
+                unit=unit,
+                charge=charge,
+                spin=two_s,
+                symmetry=True,
+                symmetry_subgroup=LINEAR_SUBGROUP[mol.groupname],
+                verbose=0,
+            )
+    except (RuntimeError, KeyError, ValueError) as err:
+        raise FieldError("molecule", f"pyscf could not build it: {err}") from None
+    return mol
+
+
+def _scf(mol, two_s, unrestricted):
+    from pyscf import scf
+
+    mf = scf.UHF(mol) if unrestricted else (scf.RHF(mol) if two_s == 0 else scf.ROHF(mol))
+    mf.conv_tol = 1e-11
+    mf.max_cycle = 200
+    mf.kernel()
+    if not mf.converged:
+        mf = mf.newton()
+        mf.kernel()
+    if not mf.converged:
+        raise UnsupportedError("scf", f"{type(mf).__name__} did not converge; try another geometry or basis")
+    return mf
+
+
+def _active_space(mol, mf, active):
+    nmo = mf.mo_coeff[0].shape[1] if np.ndim(mf.mo_coeff) == 3 else mf.mo_coeff.shape[1]
+    total = mol.nelectron
+    if active is None:
+        return total, 0, nmo
+    n_electrons, norb = active
+    if n_electrons > total or (total - n_electrons) % 2:
+        raise FieldError(
+            "active",
+            f"{n_electrons} active electrons leave {total - n_electrons} of {total} "
+            "for the frozen core, which needs an even, non-negative number",
+        )
+    ncore = (total - n_electrons) // 2
+    if ncore + norb > nmo:
+        raise FieldError("active", f"{ncore} frozen and {norb} active orbitals exceed the {nmo} molecular orbitals")
+    if (n_electrons - mol.spin) % 2 or n_electrons < mol.spin:
+        raise FieldError("active", f"{n_electrons} active electrons cannot have 2S = {mol.spin}")
+    return n_electrons, ncore, norb
+
+
+def _integrals(mf, ncore, norb, nelec, unrestricted):
+    """(h1, eri, ecore) of the active space, chemist notation, dense."""
+    from pyscf import ao2mo, mcscf
+
+    if unrestricted:
+        cas = mcscf.UCASCI(mf, norb, nelec, ncore=ncore)
+        (h1a, h1b), ecore = cas.get_h1eff()
+        aa, ab, bb = cas.get_h2eff()
+        eri = np.stack([ao2mo.restore(1, block, norb) for block in (aa, ab, bb)])
+        return np.stack([h1a, h1b]), eri, ecore
+    cas = mcscf.CASCI(mf, norb, nelec, ncore=ncore)
+    h1, ecore = cas.get_h1eff()
+    eri = ao2mo.restore(1, cas.get_h2eff(), norb)
+    return np.ascontiguousarray(h1), np.ascontiguousarray(eri), ecore
+
+
+def _orbsym(mol, mo_coeff):
+    from pyscf import symm
+
+    return np.asarray(symm.label_orb_symm(mol, mol.irrep_id, mol.symm_orb, mo_coeff))
+
+
+def _active_irreps(mol, mf, ncore, norb, unrestricted):
+    if not mol.symmetry:
+        return None
+    window = slice(ncore, ncore + norb)
+    if unrestricted:
+        alpha = _orbsym(mol, mf.mo_coeff[0])[window]
+        beta = _orbsym(mol, mf.mo_coeff[1])[window]
+        if not np.array_equal(alpha, beta):
+            return None  # one irreps list cannot describe both spins
+        labels = alpha
+    else:
+        labels = _orbsym(mol, mf.mo_coeff)[window]
+    return tuple(int(i) for i in labels)
+
+
+def _irrep_names(mol):
+    from pyscf import symm
+
+    order = {"C1": 1, "Ci": 2, "C2": 2, "Cs": 2, "C2v": 4, "C2h": 4, "D2": 4, "D2h": 8}[mol.groupname]
+    return [symm.irrep_id2name(mol.groupname, i) for i in range(order)]
+
+
+def _hf_reference(mf, ncore, norb, unrestricted) -> Reference:
+    occ = np.asarray(mf.mo_occ)
+    window = slice(ncore, ncore + norb)
+    if unrestricted:
+        alpha = np.flatnonzero(occ[0][window] > 0.5)
+        beta = np.flatnonzero(occ[1][window] > 0.5)
+    else:
+        alpha = np.flatnonzero(occ[window] > 0.5)
+        beta = np.flatnonzero(occ[window] > 1.5)
+    return Reference(
+        label="hf",
+        method="hf",
+        energy=float(mf.e_tot),
+        occupation=(tuple(int(i) for i in alpha), tuple(int(i) for i in beta)),
+    )
+
+
+def _fci_reference(h1, eri, ecore, norb, nelec, two_s, irreps, unrestricted) -> Reference:
+    """pyscf's full CI: the lowest state of the SCF's 2S (restricted), with its irrep."""
+    from pyscf import fci
+
+    if unrestricted:
+        solver = fci.direct_uhf.FCISolver()
+        solver.conv_tol = 1e-12
+        energy, _ = solver.kernel(h1, eri, norb, nelec, ecore=ecore)
+        return Reference(label="fci", method="fci", energy=float(energy), root=0)
+    best = None
+    for irrep in sorted(set(_reachable_irreps(irreps))) if irreps is not None else [None]:
+        solver = fci.direct_spin1_symm.FCI() if irrep is not None else fci.direct_spin1.FCI()
+        solver.conv_tol = 1e-12
+        kwargs = {"orbsym": np.asarray(irreps), "wfnsym": irrep} if irrep is not None else {}
+        solver = fci.addons.fix_spin_(solver, ss=(two_s / 2) * (two_s / 2 + 1), shift=0.5)
+        try:
+            energy, vector = solver.kernel(h1, eri, norb, nelec, ecore=ecore, **kwargs)
+        except (RuntimeError, ValueError, IndexError):
+            continue  # no determinant of this irrep
+        spin_square, _ = fci.spin_op.spin_square0(vector, norb, nelec)
+        if abs(spin_square - (two_s / 2) * (two_s / 2 + 1)) > 1e-6:
+            continue  # no state of this 2S in this irrep: the energy would carry the penalty
+        if best is None or energy < best[0] - 1e-9:
+            best = (float(energy), irrep)
+    if best is None:
+        raise UnsupportedError("fci", f"pyscf found no state with 2S = {two_s}")
+    return Reference(label="fci", method="fci", energy=best[0], two_s=int(two_s), irrep=best[1], root=0)
+
+
+def _reachable_irreps(irreps):
+    """Irreps a determinant can have: XORs of subsets of the orbital irreps."""
+    reachable = {0}
+    for irrep in irreps:
+        reachable |= {r ^ irrep for r in reachable}
+    return reachable

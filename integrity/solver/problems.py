@@ -1,0 +1,232 @@
+"""One eigenproblem of the native solver: the searched space and its operators.
+
+A :class:`Problem` is the record the targeting step works on: a space of
+``ndet`` determinants (one ``(n_alpha, n_beta)`` or ``S_z`` sector, optionally
+only the determinants of one irrep), the exact diagonal, ``matvec`` (sigma
+on that space) and, when they exist, a projector and the ``S^2`` matrix in a
+set of vectors. Vectors are flat arrays over the searched determinants.
+
+Two-string problems (restricted, unrestricted) keep the full ``c[Ia, Ib]``
+matrix inside sigma and address the irrep's determinants by flat index.
+For restricted orbitals with ``n_alpha == n_beta`` a spin-flip parity may be
+imposed: swapping alpha and beta strings maps ``c`` to ``c.T`` and a state of
+spin ``S`` to ``(-1)**S`` times itself, so ``(c + parity * c.T) / 2`` keeps only
+even (parity +1) or odd (parity -1) ``S``.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from dataclasses import dataclass
+
+import numpy as np
+
+from integrity.errors import FieldError
+from integrity.solver.integrals import pair_symmetric, spin_labels, sz_coupling
+from integrity.solver.memory import (
+    MemoryEstimate,
+    require_budget,
+    spin_orbital_memory,
+    two_string_memory,
+)
+from integrity.solver.point_group import spin_orbital_irreps, string_irreps
+from integrity.solver.sigma_spin_orbital import (
+    build_spin_orbital,
+    intermediate_strings,
+    sigma_spin_orbital,
+)
+from integrity.solver.sigma_two_string import build_two_string, sigma_two_string
+from integrity.solver.slater_condon import determinant_list
+from integrity.solver.spin import (
+    spin_orbital_raising,
+    spin_square_matrix_spin_orbital,
+    spin_square_matrix_two_string,
+)
+from integrity.solver.strings import strings
+
+__all__ = [
+    "SZ_TOLERANCE",
+    "Problem",
+    "spin_orbital_problem",
+    "sz_conserved",
+    "two_string_problem",
+]
+
+SZ_TOLERANCE = 1e-14
+"""S_z-changing elements up to this size (relative to the largest) count as zero."""
+
+
+@dataclass(frozen=True)
+class Problem:
+    """The searched space and its operators; energies exclude ``ecore``."""
+
+    ndet: int
+    dtype: np.dtype
+    diagonal: np.ndarray
+    matvec: Callable
+    project: Callable | None
+    spin_square: Callable | None
+    det_irreps: np.ndarray | None
+    memory: MemoryEstimate
+    notes: tuple
+
+
+def _irrep_selection(labels: np.ndarray, irrep):
+    if irrep is None:
+        return None
+    keep = np.flatnonzero(labels.ravel() == irrep)
+    if len(keep) == 0:
+        raise FieldError("irrep", f"no determinant of this sector has irrep {irrep}")
+    return keep
+
+
+def two_string_problem(
+    basis: str,
+    h1,
+    eri,
+    n_alpha: int,
+    n_beta: int,
+    *,
+    irreps=None,
+    irrep=None,
+    parity=None,
+    nroots: int = 1,
+    budget: int | None = None,
+) -> Problem:
+    """Restricted or unrestricted problem in the sector ``(n_alpha, n_beta)``."""
+    n = h1.shape[-1]
+    if basis == "restricted":
+        ha = hb = h1
+        gaa = gab = gbb = eri
+    else:
+        ha, hb = h1[0], h1[1]
+        gaa, gab, gbb = eri[0], eri[1], eri[2]
+    dtype = np.result_type(h1, eri, np.float64)
+    packed = dtype == np.float64 and pair_symmetric(gab)
+    labels = None
+    if irreps is not None:
+        labels = (
+            string_irreps(strings(n, n_alpha), irreps)[:, None] ^ string_irreps(strings(n, n_beta), irreps)[None, :]
+        )
+    keep = None if labels is None else _irrep_selection(labels, irrep)
+    ndet_full = len(strings(n, n_alpha)) * len(strings(n, n_beta))
+    ndet = ndet_full if keep is None else len(keep)
+    estimate = two_string_memory(
+        n, n_alpha, n_beta, nroots=nroots, itemsize=np.dtype(dtype).itemsize, packed=packed, ndet=ndet, budget=budget
+    )
+    if budget is not None:
+        require_budget(estimate, budget)
+    op = build_two_string(ha, hb, gaa, gab, gbb, n_alpha, n_beta, block=estimate.block)
+    shape = op.shape
+    if parity is not None and (basis != "restricted" or n_alpha != n_beta):
+        raise FieldError("two_s", "spin-flip parity needs restricted orbitals and n_alpha == n_beta")
+
+    def expand(v):
+        if keep is None:
+            return v.reshape(shape)
+        full = np.zeros(ndet_full, dtype=v.dtype)
+        full[keep] = v
+        return full.reshape(shape)
+
+    def compress(full):
+        return full.reshape(-1) if keep is None else full.reshape(-1)[keep]
+
+    def flip(full):
+        return 0.5 * (full + parity * full.T)
+
+    def matvec(v):
+        out = sigma_two_string(op, expand(v))
+        return compress(flip(out) if parity is not None else out)
+
+    def project(v):
+        return compress(flip(expand(v)))
+
+    def spin_square(rows):
+        return spin_square_matrix_two_string([expand(r) for r in rows], n, n_alpha, n_beta)
+
+    notes = []
+    if keep is not None:
+        notes.append(f"space restricted to irrep {irrep}: {ndet} of {ndet_full} determinants")
+    return Problem(
+        ndet=ndet,
+        dtype=op.dtype,
+        diagonal=compress(op.diagonal),
+        matvec=matvec,
+        project=project if parity is not None else None,
+        spin_square=spin_square if basis == "restricted" else None,
+        det_irreps=None if labels is None else compress(labels),
+        memory=estimate,
+        notes=tuple(notes),
+    )
+
+
+def sz_conserved(h, eri, layout: str) -> bool:
+    """True when no element that changes ``S_z`` exceeds ``SZ_TOLERANCE`` (relative)."""
+    scale = max(1.0, float(np.max(np.abs(h), initial=0.0)), float(np.max(np.abs(eri), initial=0.0)))
+    return sz_coupling(h, eri, layout) <= SZ_TOLERANCE * scale
+
+
+def _has_mixed_pairs(eri, layout: str) -> bool:
+    spin = spin_labels(eri.shape[0], layout)
+    mixed = spin[:, None] != spin[None, :]
+    return bool(np.any(eri[mixed]) or np.any(eri[:, :, mixed]))
+
+
+def spin_orbital_problem(
+    h,
+    eri,
+    n_electrons: int,
+    layout: str,
+    *,
+    n_alpha=None,
+    irreps=None,
+    irrep=None,
+    nroots: int = 1,
+    budget: int | None = None,
+) -> Problem:
+    """Spin-orbital problem: all ``n_electrons`` strings, or one ``n_alpha`` sector."""
+    m = h.shape[0]
+    dets = determinant_list(m, n_electrons, layout=layout, n_alpha=n_alpha)
+    labels = None
+    if irreps is not None:
+        labels = string_irreps(dets, spin_orbital_irreps(irreps, layout))
+    if irrep is not None:
+        keep = _irrep_selection(labels, irrep)
+        full_count = len(dets)
+        dets, labels = dets[keep], labels[keep]
+    if n_alpha is None and irrep is None:
+        intermediates = dets
+        near = len(dets)
+    elif n_alpha is not None and not _has_mixed_pairs(eri, layout):
+        intermediates = determinant_list(m, n_electrons, layout=layout, n_alpha=n_alpha)
+        near = len(intermediates)
+    else:
+        intermediates = intermediate_strings(dets, m)
+        near = len(intermediates)
+    dtype = np.result_type(h, eri, np.float64)
+    estimate = spin_orbital_memory(m, n_electrons, len(dets), near, nroots=nroots, itemsize=np.dtype(dtype).itemsize)
+    if budget is not None:
+        require_budget(estimate, budget)
+    op = build_spin_orbital(h, eri, n_electrons, dets, intermediates=intermediates, block=estimate.block)
+    raising = spin_orbital_raising(dets, m, layout)
+
+    def matvec(v):
+        return sigma_spin_orbital(op, v)
+
+    def spin_square(rows):
+        return spin_square_matrix_spin_orbital(rows, dets, m, layout, raising=raising)
+
+    notes = []
+    if irrep is not None:
+        notes.append(f"space restricted to irrep {irrep}: {len(dets)} of {full_count} determinants")
+    return Problem(
+        ndet=len(dets),
+        dtype=op.dtype,
+        diagonal=op.diagonal,
+        matvec=matvec,
+        project=None,
+        spin_square=spin_square,
+        det_irreps=labels,
+        memory=estimate,
+        notes=tuple(notes),
+    )

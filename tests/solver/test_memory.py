@@ -1,0 +1,70 @@
+"""Memory estimates and the budget."""
+
+from __future__ import annotations
+
+from math import comb
+
+import numpy as np
+import pytest
+
+from integrity.errors import BudgetError
+from integrity.solver import estimate_memory, slater_condon_solve, solve_arrays
+from integrity.solver.memory import two_string_memory
+from integrity.testing.arrays import random_restricted
+
+
+def test_a_space_too_large_for_a_tiny_budget_raises_with_the_figures():
+    h, eri = random_restricted(8, np.random.default_rng(0))
+    with pytest.raises(BudgetError) as caught:
+        solve_arrays("restricted", h, eri, n_alpha=4, n_beta=4, memory=2**20)
+    error = caught.value
+    assert error.size == comb(8, 4) ** 2
+    assert error.budget == 2**20
+    assert error.needed > error.budget
+    assert "4900 determinants" in str(error) and "MiB" in str(error)
+
+
+def test_the_estimate_is_made_without_building_anything_and_grows_with_the_space():
+    sizes = [estimate_memory("restricted", n, n_alpha=n // 2, n_beta=n // 2) for n in (8, 10, 12, 14, 16)]
+    assert sizes == sorted(sizes)
+    # At least the Davidson vectors: 24 vectors of comb(16, 8)**2 doubles.
+    assert sizes[-1] > 24 * comb(16, 8) ** 2 * 8
+    assert estimate_memory("restricted", 6, n_alpha=3, n_beta=3, complex_values=True) > estimate_memory(
+        "restricted", 6, n_alpha=3, n_beta=3
+    )
+    assert estimate_memory("spin-orbital", 12, n_electrons=6, sz_conserved=False) > estimate_memory(
+        "spin-orbital", 12, n_electrons=6
+    )
+
+
+def test_a_tight_budget_shrinks_the_block_and_keeps_the_answer():
+    roomy = two_string_memory(12, 6, 6)
+    tight = two_string_memory(12, 6, 6, budget=roomy.total - roomy.parts["block scratch"] // 2)
+    assert tight.block < roomy.block
+    h, eri = random_restricted(6, np.random.default_rng(1))
+    plain = solve_arrays("restricted", h, eri, n_alpha=3, n_beta=3)
+    estimate = two_string_memory(6, 3, 3, block=1)
+    squeezed = solve_arrays("restricted", h, eri, n_alpha=3, n_beta=3, memory=estimate.total + 1)
+    assert abs(plain.roots[0].energy - squeezed.roots[0].energy) < 1e-10
+    assert squeezed.memory_estimate <= estimate.total + 1
+
+
+def test_the_estimate_bounds_what_a_solve_actually_allocates():
+    import tracemalloc
+
+    h, eri = random_restricted(9, np.random.default_rng(2))
+    tracemalloc.start()
+    try:
+        result = solve_arrays("restricted", h, eri, n_alpha=5, n_beta=4, nroots=2)
+        _, peak = tracemalloc.get_traced_memory()
+    finally:
+        tracemalloc.stop()
+    assert result.determinants == comb(9, 5) * comb(9, 4)
+    assert peak <= result.memory_estimate
+
+
+def test_the_dense_reference_refuses_large_spaces():
+    h, eri = random_restricted(8, np.random.default_rng(3))
+    with pytest.raises(BudgetError) as caught:
+        slater_condon_solve("restricted", h, eri, n_alpha=4, n_beta=4)
+    assert caught.value.size == 4900
