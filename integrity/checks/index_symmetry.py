@@ -5,7 +5,18 @@ from __future__ import annotations
 
 import numpy as np
 
-from integrity.checks.registry import Result, at_element, at_field, failed, judged, passed, register, skipped, warned
+from integrity.checks.registry import (
+    Result,
+    at_element,
+    at_field,
+    failed,
+    figure,
+    judged,
+    passed,
+    register,
+    skipped,
+    warned,
+)
 from integrity.checks.relations import PAIR_MATRIX, Deviation, deviation, odd_one_out, relations_for
 from integrity.model.indexing import pair_members
 from integrity.model.slabs import spin_blocks
@@ -168,7 +179,7 @@ def _cause(ham, ctx, worst: Deviation, broken: int) -> str:
 
 @register("two_electron.notation", limit=1e-10, needs_finite=True)
 def check_notation(ham, ctx) -> Result:
-    """Whether the tensor's symmetry fits the declared notation better than the other one."""
+    """The declared notation's largest deviation, counted when the other notation's relations hold (else 0)."""
     two = ham.two_electron
     if two.antisymmetrized:
         return skipped("antisymmetrized <pq||rs> is physicist by definition")
@@ -178,24 +189,26 @@ def check_notation(ham, ctx) -> Result:
     mine, theirs = deviations(ham, ctx, declared), deviations(ham, ctx, other)
     mine_fit, theirs_fit = _fits(mine, ctx.limit), _fits(theirs, ctx.limit)
     mine_worst, theirs_worst = _worst(mine)[1].max_abs, _worst(theirs)[1].max_abs
-    figures = {"value": mine_worst, "limit": ctx.limit, "details": {declared: mine_worst, other: theirs_worst}}
+    # the evidence against the label: the declared deviation, when the other notation fits
+    value = mine_worst if theirs_fit else 0.0
+    figures = {"value": value, "limit": ctx.limit, "details": {declared: mine_worst, other: theirs_worst}}
     if mine_fit and theirs_fit:
         return warned(
-            f"both notations' relations hold (largest deviations {mine_worst:.2g} {declared}, "
-            f"{theirs_worst:.2g} {other}): the array has extra symmetry (a model interaction, or "
+            f"both notations' relations hold (largest deviations {figure(mine_worst)} {declared}, "
+            f"{figure(theirs_worst)} {other}): the array has extra symmetry (a model interaction, or "
             "too few orbitals) and the values cannot confirm the notation",
             **figures,
         )
     if mine_fit:
         return passed(
             f"the relations of {declared} notation hold and those of {other} do not "
-            f"(largest {other} deviation {theirs_worst:.3g})",
+            f"(largest {other} deviation {figure(theirs_worst)})",
             **figures,
         )
     if theirs_fit:
         return failed(
             f"declared {declared}, but the array obeys the relations of {other} notation and not "
-            f"those of {declared} (largest {declared} deviation {mine_worst:.3g}): it is probably "
+            f"those of {declared} (largest {declared} deviation {figure(mine_worst)}): it is probably "
             f"{other} stored under the wrong label",
             where=at_field("two_electron.notation"),
             **figures,

@@ -16,9 +16,20 @@ from __future__ import annotations
 
 import numpy as np
 
-from integrity.checks.registry import Result, at_element, at_field, failed, passed, register, skipped
+from integrity.checks.registry import (
+    OUTSIDE_FINGERPRINT,
+    Result,
+    at_element,
+    at_field,
+    failed,
+    figure,
+    passed,
+    register,
+    skipped,
+    warned,
+)
 from integrity.energies.meanfield import fock_matrices, reference_occupation
-from integrity.model.indexing import spin_orbital_index
+from integrity.model.indexing import spin_of_spin_orbitals, spin_orbital_index
 from integrity.model.slabs import chemist_slabs, spin_blocks
 
 
@@ -107,6 +118,85 @@ def check_irreps(ham, ctx) -> Result:
     )
 
 
+def spin_coupling(ham, layout: str):
+    """(largest element, its Location) that couples alpha and beta spin orbitals under ``layout``.
+
+    Spatial orbitals give none: h[p, q] needs sigma_p = sigma_q; (pq|rs) needs
+    sigma_p = sigma_q and sigma_r = sigma_s; an antisymmetrized <pq||rs> needs
+    sigma_p + sigma_q = sigma_r + sigma_s (S_z conserved).
+    """
+    spin = spin_of_spin_orbitals(ham.n, layout)
+    mixed = spin[:, None] != spin[None, :]
+    h = np.abs(np.asarray(ham.one_electron))
+    worst, where = 0.0, None
+    if np.any(mixed):
+        peak = float(np.max(np.where(mixed, h, 0.0)))
+        if peak > worst:
+            p, q = np.unravel_index(int(np.argmax(np.where(mixed, h, 0.0))), h.shape)
+            worst, where = peak, at_element("one_electron", (p, q))
+    antisymmetrized = bool(ham.two_electron.antisymmetrized)
+    for _, p0, slab in _stored_slabs(ham):
+        rows = spin[p0 : p0 + len(slab)]
+        if antisymmetrized:
+            pair_in = rows[:, None] + spin[None, :]
+            forbidden = pair_in[:, :, None, None] != (spin[:, None] + spin[None, :])[None, None]
+        else:
+            forbidden = (rows[:, None] != spin[None, :])[:, :, None, None] | mixed[None, None]
+        magnitude = np.abs(np.where(forbidden, slab, 0))
+        peak = float(magnitude.max()) if magnitude.size else 0.0
+        if peak > worst:
+            local = np.unravel_index(int(np.argmax(magnitude)), magnitude.shape)
+            worst, where = peak, at_element("two_electron", (int(local[0]) + p0, *map(int, local[1:])))
+    return worst, where
+
+
+def _made_from_spatial_orbitals(ham) -> bool:
+    """Whether the history records a conversion to spin orbitals from restricted or unrestricted ones."""
+    history = (ham.provenance or {}).get("history") or []
+    return any(
+        isinstance(step, dict) and step.get("step") == "basis" and step.get("to") == "spin-orbital" for step in history
+    )
+
+
+@register("orbitals.spin_coupling", limit=1e-10, severity="warn", needs_finite=True)
+def check_spin_coupling(ham, ctx) -> Result:
+    """Largest element coupling alpha and beta spin orbitals (spin-orbital files); warns: S_z is then not conserved."""
+    if ham.basis != "spin-orbital":
+        return skipped(f"{ham.basis} orbitals cannot couple alpha and beta")
+    layout = ham.orbitals.spin_layout
+    value, where = spin_coupling(ham, layout)
+    if value <= ctx.limit:
+        return passed(
+            f"no element couples alpha and beta spin orbitals in the {layout} layout (largest {figure(value)})",
+            value=value,
+            limit=ctx.limit,
+        )
+    other = "blocked" if layout == "interleaved" else "interleaved"
+    other_value, _ = spin_coupling(ham, other)
+    if other_value <= ctx.limit:
+        cause = (
+            f"read as {other}, no element couples them (largest {figure(other_value)}): the arrays are probably "
+            f"{other}, labelled {layout}"
+        )
+    elif _made_from_spatial_orbitals(ham):
+        cause = (
+            "the history says the file was made from spatial orbitals, which cannot couple the spins: it was altered"
+        )
+    else:
+        cause = (
+            "orbitals built from spatial functions cannot do this (only two-component orbitals with spin-orbit "
+            "coupling can); S_z is not conserved, so the states have no definite 2S"
+        )
+    return warned(
+        f"alpha and beta spin orbitals are coupled in the {layout} layout: largest element {figure(value)} at "
+        f"{where}; {cause}",
+        value=value,
+        limit=ctx.limit,
+        where=where,
+        details={layout: value, other: other_value},
+    )
+
+
 def brillouin_blocks(ham, occupation):
     """(name, spin block, matrix block, rows, columns) whose vanishing is the stationarity of the determinant.
 
@@ -141,7 +231,11 @@ def brillouin_blocks(ham, occupation):
 def check_canonical(ham, ctx) -> Result:
     """Brillouin: max |F_ia| over occupied i and virtual a, when the orbitals claim to be canonical."""
     if not ham.orbitals.canonical:
-        return skipped("the file does not claim canonical orbitals")
+        return warned(
+            f"not run: the file does not claim canonical orbitals (orbitals.canonical is {OUTSIDE_FINGERPRINT}); "
+            "the Brillouin condition was not tested",
+            where=at_field("orbitals.canonical"),
+        )
     ref = next((r for r in ham.references if r.method == "hf"), None)
     occupation = reference_occupation(ham, ref)
     worst, where = 0.0, None

@@ -20,7 +20,18 @@ from __future__ import annotations
 
 import numpy as np
 
-from integrity.checks.registry import Result, at_element, failed, passed, register, skipped
+from integrity.checks.registry import (
+    OUTSIDE_FINGERPRINT,
+    Result,
+    at_element,
+    at_field,
+    failed,
+    figure,
+    passed,
+    register,
+    skipped,
+    warned,
+)
 from integrity.model.slabs import chemist_column, chemist_row, chemist_slabs, exchange_diagonal, spin_blocks
 
 EIGEN_PAIRS = 2000
@@ -184,63 +195,68 @@ def schwarz_and_diagonals(ham):
     return schwarz, schwarz_at, coulomb_min, coulomb_at, exchange_min, exchange_where
 
 
-@register("two_electron.positive", limit=1e-8, needs_finite=True)
+@register("two_electron.positive", limit=-1e-8, fails_when="below", needs_finite=True)
 def check_positive(ham, ctx) -> Result:
-    """Smallest eigenvalue (or most negative pivot) of the pair matrix; Coulomb, exchange, Schwarz."""
+    """Lowest of the pair matrix's eigenvalues (or pivots), (pp|qq), (pq|qp) and the Schwarz margin.
+
+    The Schwarz margin is min sqrt((qp|pq)(sr|rs)) - |(qp|rs)|; every one of the four is >= 0 for a Coulomb operator.
+    """
     two = ham.two_electron
     if not two.is_coulomb:
-        return skipped(
-            "interaction: model; a model interaction (e.g. an attractive Hubbard U) need not be positive semidefinite",
+        return warned(
+            f"not run: interaction: model (two_electron.interaction is {OUTSIDE_FINGERPRINT}); "
+            "a model interaction (e.g. an attractive Hubbard U) need not be positive semidefinite",
+            where=at_field("two_electron.interaction"),
         )
     if two.antisymmetrized:
         return skipped("antisymmetrized <pq||rs> is not a Coulomb pair matrix")
     limit = ctx.limit
+    tolerance = -limit
     space = PairSpace(ham)
     itemsize = 16 if space.complex else 8
     if space.size <= EIGEN_PAIRS and 4 * space.size**2 * itemsize <= ctx.memory // 4:
-        value, index = smallest_eigenvalue(space)
+        lowest, index = smallest_eigenvalue(space)
         method, rank, complete = "lowest eigenvalue", None, True
     else:
         budget_rank = max(1, int(ctx.memory // 4 // (space.size * 16)))
-        value, index, rank, complete = cholesky_certificate(space, limit, budget_rank)
+        lowest, index, rank, complete = cholesky_certificate(space, tolerance, budget_rank)
         method = "most negative Cholesky pivot or residual minor"
     schwarz, schwarz_at, coulomb, coulomb_at, exchange, exchange_at = schwarz_and_diagonals(ham)
+    margin = -schwarz
     details = {
         "method": method,
         "pairs": space.size,
-        "schwarz_excess": schwarz,
+        "lowest": lowest,
+        "schwarz_margin": margin,
         "coulomb_min": coulomb,
         "exchange_min": exchange,
     }
     if rank is not None:
         details["cholesky_rank"] = rank
-    faults = []
-    if value < -limit:
-        faults.append(
-            (
-                f"the pair matrix is not positive semidefinite: {method} {value:.3g} at {space.label(index)}",
-                space.location(index),
-            )
-        )
-    if coulomb < -limit:
-        faults.append((f"Coulomb integral (pp|qq) = {coulomb:.3g} < 0 at {coulomb_at}", coulomb_at))
-    if exchange < -limit:
-        faults.append((f"exchange integral (pq|qp) = {exchange:.3g} < 0 at {exchange_at}", exchange_at))
-    if schwarz > limit:
-        faults.append(
-            (
-                f"the Schwarz bound |(qp|rs)|^2 <= (qp|pq)(sr|rs) is exceeded by {schwarz:.3g} at {schwarz_at}",
-                schwarz_at,
-            )
-        )
+    measured = [
+        (
+            lowest,
+            f"the pair matrix is not positive semidefinite: {method} {figure(lowest)} at {space.label(index)}",
+            space.location(index),
+        ),
+        (coulomb, f"Coulomb integral (pp|qq) = {figure(coulomb)} < 0 at {coulomb_at}", coulomb_at),
+        (exchange, f"exchange integral (pq|qp) = {figure(exchange)} < 0 at {exchange_at}", exchange_at),
+        (
+            margin,
+            f"the Schwarz bound |(qp|rs)| <= sqrt((qp|pq)(sr|rs)) is broken: margin {figure(margin)} at {schwarz_at}",
+            schwarz_at,
+        ),
+    ]
+    value = min(figure_value for figure_value, _, _ in measured)
+    faults = sorted((item for item in measured if item[0] < limit), key=lambda item: item[0])
     if faults:
-        text = "; ".join(f for f, _ in faults)
+        text = "; ".join(text for _, text, _ in faults)
         return failed(
             f"{text}; a Coulomb operator cannot do this: the array may be in the wrong notation, "
             "altered, or a model interaction (declare interaction: model)",
             value=value,
-            limit=-limit,
-            where=faults[0][1],
+            limit=limit,
+            where=faults[0][2],
             details=details,
         )
     if not complete:
@@ -248,12 +264,13 @@ def check_positive(ham, ctx) -> Result:
             f"pivoted Cholesky reached the memory budget at rank {rank} "
             f"of {space.size} pairs without finishing; raise --memory",
             value=value,
-            limit=-limit,
+            limit=limit,
             details=details,
         )
     return passed(
-        f"positive semidefinite ({method} {value:.3g} over {space.size} pairs); Coulomb, exchange and Schwarz hold",
+        f"positive semidefinite ({method} {figure(lowest)} over {space.size} pairs); the lowest of that, "
+        f"Coulomb, exchange and the Schwarz margin is {figure(value)}",
         value=value,
-        limit=-limit,
+        limit=limit,
         details=details,
     )

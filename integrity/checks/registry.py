@@ -6,10 +6,19 @@ order: checks run and are reported in the order they were registered (the
 order :mod:`integrity.checks` imports the families in). A check builds its
 result with :func:`passed`, :func:`failed`, :func:`warned` or
 :func:`skipped`; the runner stamps the id on it, so an id is written once.
+
+Value and limit. Every check that measures something reports ``value`` and
+``limit`` in one unit and one direction, registered as ``fails_when``:
+``"above"`` means the check fails exactly when ``value > limit`` (a
+deviation, a count of problems), ``"below"`` exactly when ``value < limit``
+(a lowest eigenvalue). A check registered with ``severity="warn"`` warns
+instead of failing, on the same comparison. A failing message prints
+``value`` with :func:`figure`, the same number the report carries.
 """
 
 from __future__ import annotations
 
+import math
 import traceback
 from collections.abc import Callable
 from dataclasses import dataclass, field, replace
@@ -18,6 +27,9 @@ from typing import Any
 from integrity.io import DEFAULT_MEMORY
 
 STATUSES = ("pass", "fail", "warn", "skip")
+DIRECTIONS = ("above", "below")
+#: said by a check that a field outside the fingerprint switched off: it warns instead of skipping
+OUTSIDE_FINGERPRINT = "a field outside the fingerprint, so the checksum cannot tell whether it was removed or altered"
 #: arrays a Location may point into: the two stored arrays, and the Fock matrix built from them
 LOCATION_ARRAYS = ("one_electron", "two_electron", "fock")
 
@@ -72,7 +84,8 @@ def at_element(array: str, index, block: str | None = None) -> Location:
 
 @dataclass(frozen=True)
 class Result:
-    """One check's verdict: the measured ``value`` held against ``limit``, the
+    """One check's verdict: the measured ``value`` held against ``limit`` in the
+    direction ``fails_when`` (stamped by the runner from the registry), the
     worst place ``where``, and a sentence to act on. ``details`` carries further
     figures (counts, energies, engines)."""
 
@@ -83,6 +96,7 @@ class Result:
     limit: float | None = None
     where: Location | None = None
     details: dict[str, Any] = field(default_factory=dict)
+    fails_when: str | None = None
 
     def as_dict(self) -> dict[str, Any]:
         out = {
@@ -90,12 +104,33 @@ class Result:
             "status": self.status,
             "value": self.value,
             "limit": self.limit,
+            "fails_when": self.fails_when,
             "where": None if self.where is None else self.where.as_dict(),
             "message": self.message,
         }
         if self.details:
             out["details"] = self.details
         return out
+
+
+def figure(value: float) -> str:
+    """A value or limit as messages print it (three significant figures).
+
+    >>> figure(1.0934e-3), figure(-1e-8)
+    ('0.00109', '-1e-08')
+    """
+    return f"{value:.3g}"
+
+
+def beyond(value: float | None, limit: float | None, fails_when: str | None) -> bool:
+    """Whether ``value`` lies beyond ``limit`` in the direction ``fails_when`` (False when not comparable).
+
+    >>> beyond(2e-10, 1e-10, "above"), beyond(-1e-3, -1e-8, "below"), beyond(None, 0.0, "above")
+    (True, True, False)
+    """
+    if value is None or limit is None or fails_when is None:
+        return False
+    return value > limit if fails_when == "above" else value < limit
 
 
 def _result(status: str, message: str, **figures) -> Result:
@@ -141,24 +176,77 @@ class Context:
 
 @dataclass(frozen=True)
 class CheckSpec:
+    """A registered check: its function, default limit, the direction it fails in, and its summary."""
+
     id: str
     function: Callable
-    limit: float | None
+    limit: float
     summary: str
     needs_hamiltonian: bool = True
     #: skipped when the arrays hold NaN or infinities (a NaN compares false with every limit)
     needs_finite: bool = False
+    #: "above": fails exactly when value > limit; "below": exactly when value < limit
+    fails_when: str = "above"
+    #: "fail", or "warn" for a check whose finding is a warning, never a failure
+    severity: str = "fail"
+    #: whether --tolerance may set the limit (False: the limit is a count of problems, fixed at 0)
+    tunable: bool = True
+
+    @property
+    def rule(self) -> str:
+        """The comparison in words, e.g. ``fails when value > 1e-10``."""
+        verb = "fails" if self.severity == "fail" else "warns"
+        sign = ">" if self.fails_when == "above" else "<"
+        return f"{verb} when value {sign} {self.limit:g}"
+
+    def limit_problem(self, limit) -> str | None:
+        """Why ``limit`` cannot be this check's limit (None when it can): finite, on the documented side of 0."""
+        if not self.tunable:
+            return f"{self.id} has no limit to set; it counts problems and fails on the first"
+        if isinstance(limit, bool) or not isinstance(limit, int | float) or not math.isfinite(limit):
+            return f"the limit of {self.id} must be a finite number, got {limit!r}"
+        if self.fails_when == "above" and limit < 0:
+            return f"{self.id} {self.rule}, so its limit is 0 or positive (default {self.limit:g}), got {limit:g}"
+        if self.fails_when == "below" and limit > 0:
+            return f"{self.id} {self.rule}, so its limit is 0 or negative (default {self.limit:g}), got {limit:g}"
+        return None
 
 
 REGISTRY: dict[str, CheckSpec] = {}
 
 
-def register(check_id: str, *, limit: float | None = None, needs_hamiltonian: bool = True, needs_finite: bool = False):
-    """Register a check function under ``check_id`` with its default limit."""
+def register(
+    check_id: str,
+    *,
+    limit: float | None = None,
+    fails_when: str = "above",
+    severity: str = "fail",
+    needs_hamiltonian: bool = True,
+    needs_finite: bool = False,
+):
+    """Register a check function under ``check_id`` with its default limit and direction.
+
+    A check registered without a limit counts problems: it fails when the count
+    exceeds 0, and ``--tolerance`` cannot change that.
+    """
+    if fails_when not in DIRECTIONS:
+        raise ValueError(f"fails_when must be one of {DIRECTIONS}, got {fails_when!r}")
+    if severity not in ("fail", "warn"):
+        raise ValueError(f"severity must be 'fail' or 'warn', got {severity!r}")
 
     def decorate(function):
         summary = (function.__doc__ or "").strip().splitlines()[0] if function.__doc__ else ""
-        REGISTRY[check_id] = CheckSpec(check_id, function, limit, summary, needs_hamiltonian, needs_finite)
+        REGISTRY[check_id] = CheckSpec(
+            check_id,
+            function,
+            0.0 if limit is None else limit,
+            summary,
+            needs_hamiltonian,
+            needs_finite,
+            fails_when,
+            severity,
+            tunable=limit is not None,
+        )
         return function
 
     return decorate
@@ -183,4 +271,9 @@ def run_one(spec: CheckSpec, ham, ctx: Context) -> Result:
         result = failed(
             f"the check itself failed: {type(err).__name__}: {err} (at {frame.filename.split('/')[-1]}:{frame.lineno})"
         )
-    return replace(result, id=spec.id)
+    return stamp(spec, result)
+
+
+def stamp(spec: CheckSpec, result: Result) -> Result:
+    """The result with its check's id and direction."""
+    return replace(result, id=spec.id, fails_when=spec.fails_when)

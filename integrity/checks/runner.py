@@ -20,7 +20,7 @@ from dataclasses import dataclass, field, replace
 
 import numpy as np
 
-from integrity.checks.registry import REGISTRY, Context, Result, check_ids, run_one, skipped
+from integrity.checks.registry import REGISTRY, Context, Result, check_ids, run_one, skipped, stamp
 from integrity.checks.report import FileReport
 from integrity.errors import FieldError, IntegrityError
 from integrity.io import DEFAULT_MEMORY, find_files, open_document
@@ -62,11 +62,15 @@ class CheckOptions:
         for name in [*(self.only or ()), *self.without, *self.tolerances]:
             if name not in known:
                 raise FieldError("check", f"unknown check id {name!r}; known: {', '.join(known)}")
+        for name, limit in self.tolerances.items():
+            problem = REGISTRY[name].limit_problem(limit)
+            if problem:
+                raise FieldError("tolerances", problem)
         if self.engine not in ENGINES:
             raise FieldError("engine", f"{self.engine!r} is not an engine; expected one of {ENGINES}")
         return [i for i in known if (self.only is None or i in self.only) and i not in self.without]
 
-    def limit(self, check_id: str) -> float | None:
+    def limit(self, check_id: str) -> float:
         return self.tolerances.get(check_id, REGISTRY[check_id].limit)
 
 
@@ -150,7 +154,7 @@ def _judge(ham, path, ids, options: CheckOptions, *, document=None, build_error=
 
 
 def _stamped(check_id: str, why: str) -> Result:
-    return replace(skipped(why), id=check_id)
+    return stamp(REGISTRY[check_id], skipped(why))
 
 
 def _finite_result(results, ham, ctx) -> Result:

@@ -6,19 +6,41 @@ import math
 
 import numpy as np
 
-from integrity.checks.registry import Result, at_element, at_field, failed, judged, passed, register, skipped
+from integrity.checks.registry import (
+    OUTSIDE_FINGERPRINT,
+    Result,
+    at_element,
+    at_field,
+    failed,
+    judged,
+    passed,
+    register,
+    skipped,
+    warned,
+)
 from integrity.io.schema import schema_problems
 from integrity.model.fingerprint import fingerprint
 from integrity.model.hamiltonian import shape_problems
 from integrity.model.slabs import current_slab_bytes
 
+#: problems a message names; the result's details list every one
 MAX_LISTED = 5
 
 
-def _listing(problems, locate) -> str:
-    shown = "; ".join(f"{locate(p.path)}: {p.message}" for p in problems[:MAX_LISTED])
-    more = f"; and {len(problems) - MAX_LISTED} more" if len(problems) > MAX_LISTED else ""
-    return shown + more
+def listing(pairs) -> tuple[str, dict]:
+    """A short text of the first problems and the details that list them all.
+
+    ``pairs`` are (field, reason); the text names ``MAX_LISTED`` of them.
+    """
+    pairs = list(pairs)
+    shown = "; ".join(f"{field}: {reason}" for field, reason in pairs[:MAX_LISTED])
+    if len(pairs) > MAX_LISTED:
+        shown += f"; and {len(pairs) - MAX_LISTED} more (the result's details list all {len(pairs)})"
+    return shown, {"problems": [{"field": field, "reason": reason} for field, reason in pairs]}
+
+
+def _listing(problems, locate) -> tuple[str, dict]:
+    return listing((locate(p.path), p.message) for p in problems)
 
 
 @register("schema", needs_hamiltonian=False)
@@ -35,11 +57,13 @@ def check_schema(ham, ctx) -> Result:
     problems = schema_problems(tree, entry)
     build_error = getattr(ctx, "build_error", None)
     if problems:
+        text, details = _listing(problems, locate)
         return failed(
-            f"{len(problems)} schema problem(s): {_listing(problems, locate)}",
+            f"{len(problems)} schema problem(s): {text}",
             value=float(len(problems)),
             limit=0.0,
             where=at_field(locate(problems[0].path)),
+            details=details,
         )
     if build_error is not None and not _is_shape_error(build_error):
         return failed(
@@ -131,8 +155,14 @@ def check_shapes(ham, ctx) -> Result:
             )
         )
     if problems:
-        text = "; ".join(f"{field}: {reason}" for field, reason in problems[:MAX_LISTED])
-        return failed(text, value=float(len(problems)), limit=0.0, where=at_field(problems[0][0]))
+        text, details = listing(problems)
+        return failed(
+            f"{len(problems)} shape problem(s): {text}",
+            value=float(len(problems)),
+            limit=0.0,
+            where=at_field(problems[0][0]),
+            details=details,
+        )
     return passed(f"shapes and dtypes fit {count} {basis} orbitals", value=0.0, limit=0.0)
 
 
@@ -195,18 +225,25 @@ def _first_non_finite(array, slab_bytes):
 @register("checksum")
 def check_checksum(ham, ctx) -> Result:
     """The fingerprint recomputed against the stored checksum."""
-    if ham.checksum is None:
-        return skipped("no checksum stored")
     computed = fingerprint(ham)
+    if ham.checksum is None:
+        return warned(
+            "no checksum stored: a change to the data after it was written cannot be detected "
+            "(write the file with integrity, or convert it, to store one)",
+            where=at_field("checksum"),
+            details={"computed": computed},
+        )
     if computed != ham.checksum:
         return failed(
-            f"stored {ham.checksum[:19]}... but the content gives {computed[:19]}...; the data or the "
-            "identifying metadata changed after the checksum was written (an altered or truncated "
+            f"1 fingerprint differs: stored {ham.checksum[:19]}... but the content gives {computed[:19]}...; "
+            "the data or the identifying metadata changed after the checksum was written (an altered or truncated "
             "transfer, or an edit without a new fingerprint)",
+            value=1.0,
+            limit=0.0,
             where=at_field("checksum"),
             details={"stored": ham.checksum, "computed": computed},
         )
-    return passed("the fingerprint matches the stored checksum", details={"computed": computed})
+    return passed("the fingerprint matches the stored checksum", value=0.0, limit=0.0, details={"computed": computed})
 
 
 @register("electrons.count")
@@ -262,8 +299,14 @@ def check_electrons(ham, ctx) -> Result:
             if ham.basis == "spin-orbital":
                 problems += _spin_orbital_occupation_problems(ham, where, ref.occupation)
     if problems:
-        text = "; ".join(f"{field}: {reason}" for field, reason in problems[:MAX_LISTED])
-        return failed(text, value=float(len(problems)), limit=0.0, where=at_field(problems[0][0]))
+        text, details = listing(problems)
+        return failed(
+            f"{len(problems)} problem(s): {text}",
+            value=float(len(problems)),
+            limit=0.0,
+            where=at_field(problems[0][0]),
+            details=details,
+        )
     return passed(
         f"{ham.electrons.alpha} alpha and {ham.electrons.beta} beta electrons fit {per_spin} orbitals "
         "per spin; every reference is reachable",
@@ -294,7 +337,11 @@ def check_core_parts(ham, ctx) -> Result:
     """The parts of the core energy add up to core_energy."""
     parts = ham.core_energy_parts
     if not parts:
-        return skipped("no core_energy_parts stored")
+        return warned(
+            f"not run: no core_energy_parts stored (core_energy_parts is {OUTSIDE_FINGERPRINT}); "
+            "core_energy cannot be traced to its parts",
+            where=at_field("core_energy_parts"),
+        )
     total = float(sum(parts.values()))
     difference = abs(total - ham.core_energy)
     if difference > ctx.limit:
