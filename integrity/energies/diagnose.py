@@ -4,8 +4,11 @@ The energy the file gives (the reference determinant for ``hf``, full CI
 for ``fci``) is compared with the expected one; then each hypothesis is
 tested by recomputing the energy the way the mistake would have produced it:
 the other index notation, alpha and beta exchanged, another electron count,
-another root or spin state, a missing or doubled constant, a factor of two on
-the two-electron term, the other spin-orbital layout. A hypothesis *matches*
+another root or spin state, a missing or doubled constant (the core energy,
+one of its parts, or the nuclear repulsion of the geometry in provenance), a
+factor of two on the two-electron term, the other spin-orbital layout, a
+complex one-electron matrix stored transposed (h^T = h*, which is as Hermitian
+as h, so no structural check can see it). A hypothesis *matches*
 when it reproduces the expected energy to within the tolerance. A match is a
 lead, not a proof: distinct mistakes can give the same number.
 """
@@ -18,6 +21,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from integrity.energies.meanfield import default_occupation, determinant_energy, reference_occupation
+from integrity.energies.nuclear import provenance_nuclear_repulsion
 from integrity.energies.solve import solve
 from integrity.errors import BudgetError, FieldError, IntegrityError, UnsupportedError
 from integrity.io import DEFAULT_MEMORY
@@ -98,14 +102,57 @@ def constant_hints(ham: Hamiltonian, difference: float, tolerance: float) -> lis
         hints.append(
             "the difference equals minus core_energy: the expected energy is electronic only, without core_energy"
         )
-    for name, value in (ham.core_energy_parts or {}).items():
+    parts = ham.core_energy_parts or {}
+    for name, value in parts.items():
         if value == 0:
             continue
         if abs(difference - value) <= tolerance:
             hints.append(f"the difference equals core_energy_parts.{name}: that part is missing from core_energy")
         elif abs(difference + value) <= tolerance:
             hints.append(f"the difference equals minus core_energy_parts.{name}: that part is counted twice")
+    nuclear = provenance_nuclear_repulsion(ham.provenance)
+    if nuclear is not None and not any(abs(value - nuclear) <= tolerance for value in parts.values()):
+        if abs(difference - nuclear) <= tolerance:
+            hints.append(
+                f"the difference equals the nuclear repulsion of the geometry in provenance ({nuclear:.10f} "
+                "hartree): core_energy lacks it"
+            )
+        elif abs(difference + nuclear) <= tolerance:
+            hints.append(
+                f"the difference equals minus the nuclear repulsion of the geometry in provenance "
+                f"({nuclear:.10f} hartree): it is counted twice"
+            )
     return hints
+
+
+def common_offset(differences, tolerance: float) -> float | None:
+    """The constant every difference (expected - computed) shares, when there are two or more and it is not 0.
+
+    >>> common_offset([0.25, 0.25], 1e-6), common_offset([0.25, 0.5], 1e-6), common_offset([0.25], 1e-6)
+    (0.25, None, None)
+    """
+    values = [float(d) for d in differences]
+    if len(values) < 2:
+        return None
+    middle = 0.5 * (max(values) + min(values))
+    if max(values) - min(values) > tolerance or abs(middle) <= tolerance:
+        return None
+    return middle
+
+
+def offset_text(ham: Hamiltonian, offset: float, count: int, tolerance: float) -> str:
+    """What a constant shared by every reference means, with the nuclear repulsion of provenance when known."""
+    text = (
+        f"all {count} references are off by the same constant {offset:+.10f} hartree: the integrals agree with "
+        f"them, the constant does not; core_energy {ham.core_energy:.10f} is probably wrong or missing a part "
+        f"(with core_energy {ham.core_energy + offset:.10f} every reference matches)"
+    )
+    nuclear = provenance_nuclear_repulsion(ham.provenance)
+    if nuclear is not None:
+        text += f"; the geometry in provenance has nuclear repulsion {nuclear:.10f} hartree"
+        if abs(offset - nuclear) <= tolerance:
+            text += ", which is the constant: core_energy lacks it"
+    return text
 
 
 def _energy(ham: Hamiltonian, target: _Target, memory: int) -> float:
@@ -221,6 +268,14 @@ def _variants(ham: Hamiltonian, target: _Target):
             "factor",
             f"the two-electron term is scaled by {factor:g} (a 1/2 convention applied twice or not at all)",
             scaled,
+            target,
+        )
+    h = np.asarray(ham.one_electron)
+    if np.iscomplexobj(h) and np.any(h.imag != 0):
+        yield (
+            "transposed",
+            "one_electron is stored transposed: h^T = h*, Hermitian too, so the imaginary parts have the wrong sign",
+            _quiet(ham.replace, one_electron=np.ascontiguousarray(np.swapaxes(h, -1, -2))),
             target,
         )
     if ham.basis == "spin-orbital":

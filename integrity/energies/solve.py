@@ -40,7 +40,10 @@ class Sector:
 def solver_arrays(ham: Hamiltonian, memory: int = DEFAULT_MEMORY, need_irreps: bool = True):
     """(h1, eri as dense chemist, spatial irreps) for the solver, refusing what exceeds ``memory``.
 
-    Irreps are passed only when an irrep is targeted (``need_irreps``).
+    Irreps label every root when the file has them. Spin-orbital irreps that
+    disagree between the alpha and beta spin orbitals of one spatial orbital
+    are an error when an irrep is targeted (``need_irreps``); otherwise the
+    roots go unlabelled.
     """
     two = ham.two_electron
     itemsize = np.dtype(two.array.dtype).itemsize
@@ -57,7 +60,13 @@ def solver_arrays(ham: Hamiltonian, memory: int = DEFAULT_MEMORY, need_irreps: b
     eri = np.asarray(dense_chemist(two, ham.basis, ham.n))
     if two.antisymmetrized:
         eri = chemist_to_physicist(0.5 * eri)  # <pq||rs>/2 read as physicist, viewed as chemist
-    return np.asarray(ham.one_electron), eri, spatial_irreps(ham) if need_irreps else None
+    try:
+        irreps = spatial_irreps(ham)
+    except FieldError:
+        if need_irreps:
+            raise
+        irreps = None
+    return np.asarray(ham.one_electron), eri, irreps
 
 
 def spatial_irreps(ham: Hamiltonian):

@@ -16,6 +16,7 @@ from dataclasses import dataclass
 from math import comb
 
 from integrity.errors import BudgetError, FieldError
+from integrity.io.document import format_bytes
 from integrity.solver.davidson import default_max_space
 from integrity.solver.sigma_two_string import DEFAULT_BLOCK, block_bytes
 from integrity.solver.string_hamiltonian import string_hamiltonian_bytes
@@ -119,9 +120,9 @@ def require_budget(estimate: MemoryEstimate, budget: int) -> None:
         raise BudgetError(
             "memory",
             f"a solve over {estimate.determinants} determinants needs about "
-            f"{estimate.total / 2**20:.1f} MiB (largest part: {largest}, "
-            f"{estimate.parts[largest] / 2**20:.1f} MiB) but the budget is "
-            f"{budget / 2**20:.1f} MiB",
+            f"{format_bytes(estimate.total)} (largest part: {largest}, "
+            f"{format_bytes(estimate.parts[largest])}) but the budget is "
+            f"{format_bytes(budget)} (--memory)",
             needed=estimate.total,
             budget=budget,
             size=estimate.determinants,

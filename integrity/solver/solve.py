@@ -178,10 +178,24 @@ def _two_string_sector(n, n_alpha, n_beta, n_electrons, two_s):
     return n_alpha, n_beta
 
 
-def _require_two_s(two_s, n_alpha, n_beta):
+def _require_reachable(two_s, total: int, n: int):
+    """Refuse a 2S that no state of ``total`` electrons in ``n`` orbitals per spin has: 2S <= min(N, 2n - N)."""
     if two_s is None:
         return
     _count("two_s", two_s, 0, 10**6)
+    highest = min(total, 2 * n - total)
+    if two_s > highest:
+        raise FieldError(
+            "two_s",
+            f"no state with 2S = {two_s} exists for {total} electrons in {n} orbitals per spin "
+            f"(at most 2S = {highest})",
+        )
+
+
+def _require_two_s(two_s, n_alpha, n_beta, n):
+    if two_s is None:
+        return
+    _require_reachable(two_s, n_alpha + n_beta, n)
     if two_s < abs(n_alpha - n_beta) or (two_s - (n_alpha - n_beta)) % 2:
         raise FieldError(
             "two_s",
@@ -191,7 +205,8 @@ def _require_two_s(two_s, n_alpha, n_beta):
         )
 
 
-def _roots(states, first: int, s_squared_known: bool) -> tuple[Root, ...]:
+def _roots(states, first: int, s_squared_known: bool, two_s_known: bool) -> tuple[Root, ...]:
+    """The roots from ``first`` on; 2S only when ``two_s_known`` (S_z conserved: the states have a spin)."""
     out = []
     for i in range(first, len(states.energies)):
         s2 = states.s_squared[i] if s_squared_known else None
@@ -199,7 +214,7 @@ def _roots(states, first: int, s_squared_known: bool) -> tuple[Root, ...]:
             Root(
                 energy=float(states.energies[i]),
                 s_squared=s2,
-                two_s=None if s2 is None else two_s_of(s2),
+                two_s=None if s2 is None or not two_s_known else two_s_of(s2),
                 irrep=states.irreps[i],
                 residual_norm=float(states.residual_norms[i]),
                 converged=bool(states.converged[i]),
@@ -226,7 +241,16 @@ def _spin_orbital_sector(h1, eri, m, layout, n_alpha, n_beta, n_electrons, two_s
                 "the Hamiltonian couples alpha and beta spin orbitals, "
                 "so n_alpha is not conserved; give n_electrons only",
             )
-        return total, None, None, False, ["S_z is not conserved: solved in the whole N-electron space"]
+        return (
+            total,
+            None,
+            None,
+            False,
+            [
+                "S_z is not conserved: solved in the whole N-electron space; 2S is undetermined "
+                "(the states need not have a total spin)"
+            ],
+        )
     if n_alpha is None and n_beta is None:
         n_alpha, n_beta = _split(total, m // 2, two_s)
     else:
@@ -290,8 +314,13 @@ def solve_arrays(
     else:
         n_alpha, n_beta = _two_string_sector(n, n_alpha, n_beta, n_electrons, two_s)
         total, conserving, notes = n_alpha + n_beta, True, []
+    per_spin = n // 2 if basis == "spin-orbital" else n
     if conserving:
-        _require_two_s(two_s, n_alpha, n_beta)
+        _require_two_s(two_s, n_alpha, n_beta, per_spin)
+    else:
+        _require_reachable(two_s, total, per_spin)
+        if two_s is not None and (two_s - total) % 2:
+            raise FieldError("two_s", f"2S = {two_s} has the wrong parity for {total} electrons")
     spin_target = two_s
     if two_s is not None and basis == "unrestricted":
         notes.append("two_s not checked: unrestricted orbitals (no alpha-beta overlap)")
@@ -385,7 +414,7 @@ def _result(req: Request, engine, states, *, spin_known, determinants, iteration
     states = _with_ecore(states, req.ecore)
     return FCIResult(
         engine=engine,
-        roots=_roots(states, req.root, spin_known),
+        roots=_roots(states, req.root, spin_known, spin_known and req.conserving),
         iterations=iterations,
         determinants=determinants,
         memory_estimate=memory_estimate,

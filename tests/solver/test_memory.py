@@ -21,7 +21,8 @@ def test_a_space_too_large_for_a_tiny_budget_raises_with_the_figures():
     assert error.size == comb(8, 4) ** 2
     assert error.budget == 2**20
     assert error.needed > error.budget
-    assert "4900 determinants" in str(error) and "MiB" in str(error)
+    assert "4900 determinants" in str(error)
+    assert "but the budget is 1 MiB (--memory)" in str(error)  # sizes humanized, the option named
 
 
 def test_the_estimate_is_made_without_building_anything_and_grows_with_the_space():
