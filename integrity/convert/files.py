@@ -23,12 +23,13 @@ element (by :mod:`integrity.io.jsonfile`).
 from __future__ import annotations
 
 import os
+from collections.abc import Callable
 from pathlib import Path
 
 from integrity.convert.history import dated, step_entry, with_history
-from integrity.convert.pipeline import ConversionResult, convert
-from integrity.errors import IntegrityError, RefusedError
-from integrity.io import DEFAULT_MEMORY, container_of, load, save
+from integrity.convert.pipeline import ConversionResult, convert, planned_size
+from integrity.errors import BudgetError, IntegrityError, RefusedError
+from integrity.io import DEFAULT_MEMORY, container_of, format_bytes, load, save
 from integrity.model.fingerprint import fingerprint
 
 
@@ -42,14 +43,24 @@ def _same_file(first: Path, second: Path) -> bool:
 
 
 def convert_file(
-    in_path, out_path, *, overwrite: bool = False, memory: int = DEFAULT_MEMORY, date: str | None = None, **steps
+    in_path,
+    out_path,
+    *,
+    overwrite: bool = False,
+    memory: int = DEFAULT_MEMORY,
+    date: str | None = None,
+    on_plan: Callable[[dict], None] | None = None,
+    **steps,
 ) -> ConversionResult:
     """Convert the file ``in_path`` into ``out_path``; ``steps`` are :func:`convert`'s keywords.
 
     ``date`` (YYYY-MM-DD) dates the history entries; today, UTC, when None.
 
     Returns the result as written (its ``hamiltonian.checksum`` is the one
-    stored in ``out_path``). ``memory`` bounds what the input may declare.
+    stored in ``out_path``). ``memory`` bounds what the input may declare, and
+    the input and output arrays together (a conversion holds both): beyond it
+    the conversion is refused with the figures, before anything is computed.
+    ``on_plan`` is called with :func:`planned_size`'s figures once they are known.
     """
     in_path, out_path = Path(in_path), Path(out_path)
     if _same_file(in_path, out_path):
@@ -61,6 +72,27 @@ def convert_file(
         )
     source, target = container_of(in_path), container_of(out_path)
     ham = load(in_path, memory=memory)
+    try:
+        size = planned_size(ham, **steps)
+    except IntegrityError as err:
+        raise err.in_file(in_path) from None
+    needed = size["input"] + size["output"]
+    if needed > memory:
+        ratio = (
+            f" ({size['output'] / size['input']:.3g}x the input's {format_bytes(size['input'])})"
+            if size["input"]
+            else ""
+        )
+        raise BudgetError(
+            None,
+            f"the converted arrays hold {format_bytes(size['output'])}{ratio}; with the input that is "
+            f"{format_bytes(needed)} in memory, beyond the budget of {format_bytes(memory)} (--memory)",
+            str(out_path),
+            needed=needed,
+            budget=memory,
+        )
+    if on_plan is not None:
+        on_plan(size)
     try:
         result = convert(ham, date=date, **steps)
     except IntegrityError as err:

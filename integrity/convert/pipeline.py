@@ -39,6 +39,7 @@ False
 from __future__ import annotations
 
 import dataclasses
+import math
 from dataclasses import dataclass
 
 from integrity.convert.bitwise import native, same_bits
@@ -51,7 +52,14 @@ from integrity.convert.storage import require_tolerance, storage_problem, storag
 from integrity.errors import FieldError, RefusedError
 from integrity.model.fingerprint import fingerprint
 from integrity.model.hamiltonian import Hamiltonian, TwoElectron
-from integrity.model.indexing import BASES, NOTATIONS, SPIN_LAYOUTS, STORAGES
+from integrity.model.indexing import (
+    BASES,
+    NOTATIONS,
+    SPIN_LAYOUTS,
+    STORAGES,
+    one_electron_shape,
+    two_electron_shape,
+)
 
 DEFAULT_LAYOUT = "interleaved"
 
@@ -164,6 +172,36 @@ def plan(
         target_storage,
         antisymmetrize or was_antisymmetrized,
     )
+
+
+def array_bytes(basis: str, count: int, storage: str, itemsize: int) -> int:
+    """Bytes of the one- and two-electron arrays of a file of this basis, orbital count and storage."""
+    cells = math.prod(one_electron_shape(basis, count)) + math.prod(two_electron_shape(basis, count, storage))
+    return cells * itemsize
+
+
+def planned_size(ham: Hamiltonian, **steps) -> dict:
+    """The arrays' bytes before and after :func:`convert` with ``steps`` (its keywords), without converting.
+
+    >>> import numpy as np
+    >>> from integrity.model.hamiltonian import Hamiltonian, Orbitals, Electrons, TwoElectron
+    >>> ham = Hamiltonian(Orbitals(2, "restricted"), Electrons(1, 1), 0.0, np.eye(2),
+    ...                   TwoElectron(np.zeros((2, 2, 2, 2)), notation="chemist"))
+    >>> planned_size(ham, basis="spin-orbital")
+    {'input': 160, 'output': 2176}
+    """
+    keys = ("notation", "storage", "basis", "spin_layout", "antisymmetrize")
+    target = plan(ham, **{k: v for k, v in steps.items() if k in keys})
+    itemsize = 16 if ham.is_complex else 8
+    count = ham.n
+    if target.basis == "spin-orbital" and ham.basis != "spin-orbital":
+        count = 2 * ham.n
+    elif target.basis != "spin-orbital" and ham.basis == "spin-orbital":
+        count = ham.n // 2
+    return {
+        "input": array_bytes(ham.basis, ham.n, ham.two_electron.storage, itemsize),
+        "output": array_bytes(target.basis, count, target.storage, itemsize),
+    }
 
 
 def _checksum_step(ham: Hamiltonian, accept_mismatch: bool) -> list[dict]:

@@ -30,6 +30,7 @@ True
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 import numpy as np
@@ -226,8 +227,13 @@ def _refusal(measure: SymmetryMeasure, source: str, target: str, n: int, toleran
 
 def require_tolerance(tolerance) -> float:
     """A tolerance must be a number >= 0 (hartree); returns it as float."""
-    if isinstance(tolerance, bool) or not isinstance(tolerance, int | float) or not tolerance >= 0:
-        raise FieldError("tolerance", f"expected a number >= 0 (hartree), got {tolerance!r}")
+    if (
+        isinstance(tolerance, bool)
+        or not isinstance(tolerance, int | float)
+        or not math.isfinite(tolerance)
+        or not tolerance >= 0
+    ):
+        raise FieldError("tolerance", f"expected a finite number >= 0 (hartree), got {tolerance!r}")
     return float(tolerance)
 
 

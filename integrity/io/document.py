@@ -10,6 +10,7 @@ readable until the document is closed.
 
 from __future__ import annotations
 
+import math
 from collections.abc import Callable
 from dataclasses import dataclass, field
 from typing import Any
@@ -71,6 +72,8 @@ def parse_bytes(text: str) -> int:
 
     >>> parse_bytes("512MiB"), parse_bytes("4GiB"), parse_bytes("1.5 GB")
     (536870912, 4294967296, 1500000000)
+
+    NaN, infinities (``inf``, ``1e400``) and sizes below one byte (``0.5``) are refused.
     """
     units = {
         "": 1,
@@ -95,9 +98,12 @@ def parse_bytes(text: str) -> int:
         value = float(number)
     except ValueError:
         raise ValueError(f"{text!r} is not a memory size such as 512MiB or 4GiB") from None
-    if unit not in units or value <= 0:
+    if unit not in units or not math.isfinite(value) or value <= 0:
         raise ValueError(f"{text!r} is not a memory size such as 512MiB or 4GiB")
-    return int(value * units[unit])
+    size = value * units[unit]
+    if not math.isfinite(size) or size < 1:
+        raise ValueError(f"{text!r} is not a memory size of at least one byte (such as 512MiB or 4GiB)")
+    return int(size)
 
 
 def require_declared_size(field_name: str, shape, itemsize: int, memory: int) -> None:

@@ -35,6 +35,7 @@ integrity.errors.FieldError: two_electron: storage 'pairs' needs shape (10, 10) 
 from __future__ import annotations
 
 import dataclasses
+import json
 import operator
 import re
 from collections.abc import Iterator, Mapping
@@ -339,8 +340,46 @@ def structure_problems(ham: Hamiltonian) -> Iterator[tuple[str, str]]:
     yield from _provenance_problems(ham.provenance)
     if ham.title is not None and "\x00" in str(ham.title):
         yield "title", "contains a NUL character, which HDF5 strings cannot hold"
+    yield from _unicode_problems(ham)
     if ham.checksum is not None and not (isinstance(ham.checksum, str) and CHECKSUM_PATTERN.match(ham.checksum)):
         yield "checksum", f"expected 'sha256:' and 64 lower-case hex digits, got {ham.checksum!r}"
+
+
+def surrogate_problem(text) -> str | None:
+    """Why ``text`` is not valid Unicode (a lone surrogate, what undecodable bytes become), or None.
+
+    >>> surrogate_problem("ok"), surrogate_problem("bad\\udcff").split(";")[0]
+    (None, "contains the lone surrogate '\\\\udcff' at position 3")
+    """
+    if not isinstance(text, str):
+        return None
+    for position, char in enumerate(text):
+        if "\ud800" <= char <= "\udfff":
+            return (
+                f"contains the lone surrogate {char!a} at position {position}; text must be valid Unicode "
+                "(UTF-8 cannot encode it)"
+            )
+    return None
+
+
+def _unicode_problems(ham: Hamiltonian) -> Iterator[tuple[str, str]]:
+    """Texts a file must be able to hold in UTF-8: the title, reference labels and methods, provenance."""
+    texts = [("title", ham.title)]
+    texts += [(f"references[{i}].label", r.label) for i, r in enumerate(ham.references)]
+    texts += [(f"references[{i}].method", r.method) for i, r in enumerate(ham.references)]
+    if isinstance(ham.provenance, Mapping):
+        for key, value in ham.provenance.items():
+            texts.append(("provenance", key))
+            if key == "history" and isinstance(value, list | tuple):
+                texts += [
+                    (f"provenance.history[{i}]", json.dumps(step, ensure_ascii=False)) for i, step in enumerate(value)
+                ]
+            else:
+                texts.append((f"provenance.{key}", value))
+    for field, text in texts:
+        problem = surrogate_problem(text)
+        if problem:
+            yield field, problem
 
 
 def _irreps_problems(orb: Orbitals) -> Iterator[tuple[str, str]]:

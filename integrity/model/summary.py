@@ -10,13 +10,18 @@ from integrity.model.slabs import chemist_slabs, spin_blocks
 
 
 def _norm_and_max(slabs) -> tuple[float, float]:
-    """Frobenius norm and largest magnitude over slabs, scaled so huge values do not overflow."""
+    """Frobenius norm and largest magnitude over slabs, scaled so huge values do not overflow.
+
+    NaN anywhere makes both NaN; an infinity makes both infinite.
+    """
     scale, total = 0.0, 0.0  # norm = scale * sqrt(total)
     for slab in slabs:
         magnitude = np.abs(slab)
         if not magnitude.size:
             continue
         peak = float(magnitude.max())
+        if not np.isfinite(peak):
+            return peak, peak
         if peak > scale:
             total *= (scale / peak) ** 2
             scale = peak
@@ -42,11 +47,28 @@ def _two_electron_figures(ham: Hamiltonian) -> dict:
     return {"norm (dense)": norm, "max_abs": largest}
 
 
+def irrep_names(ham: Hamiltonian) -> list[str] | None:
+    """Names of the irreps by number, from ``provenance.irrep_names`` (space-separated, as build writes them).
+
+    None when the provenance names none, or names fewer irreps than the orbitals use.
+    """
+    text = (ham.provenance or {}).get("irrep_names")
+    if not isinstance(text, str) or ham.orbitals.irreps is None:
+        return None
+    names = text.split()
+    if not names or max(ham.orbitals.irreps) >= len(names):
+        return None
+    return names
+
+
 def summarize(ham: Hamiltonian) -> dict:
     """The summary as a dict of plain values (rendered by :mod:`integrity.cli.render`)."""
     orb = ham.orbitals
     two = ham.two_electron
     computed = fingerprint(ham)
+    names = irrep_names(ham)
+    provenance = dict(ham.provenance or {})
+    history = provenance.pop("history", None) or []
     if ham.checksum is None:
         checksum = "no checksum stored"
     elif ham.checksum == computed:
@@ -62,6 +84,7 @@ def summarize(ham: Hamiltonian) -> dict:
             "point_group": orb.point_group,
             "irreps": list(orb.irreps) if orb.irreps is not None else None,
             "canonical": orb.canonical,
+            "irrep_names": None if names is None else [names[i] for i in orb.irreps],
         },
         "electrons": {"alpha": ham.electrons.alpha, "beta": ham.electrons.beta},
         "core_energy": ham.core_energy,
@@ -90,9 +113,12 @@ def summarize(ham: Hamiltonian) -> dict:
                     "irrep": r.irrep,
                     "root": r.root,
                     "electrons": None if r.electrons is None else f"{r.electrons.alpha},{r.electrons.beta}",
+                    "tolerance": r.tolerance,
                 }.items()
                 if v is not None
             }
             for r in ham.references
         ],
+        "provenance": provenance,
+        "history": list(history),
     }

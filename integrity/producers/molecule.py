@@ -13,24 +13,37 @@ when the determinant space is at most ``max_fci_determinants``, ``fci``
 that state when the molecule has symmetry).
 
 Irreps: pyscf's numbering for D2h and its subgroups, in which a product of
-irreps is the XOR of their numbers, as the format requires. Linear molecules
-are described in D2h (or C2v without inversion).
+irreps is the XOR of their numbers, as the format requires. pyscf reduces
+every non-abelian group to its largest abelian subgroup in that family
+(Td to D2, Oh and D6h to D2h, C3v to Cs, ...) by itself; atoms (SO3) and
+linear molecules (Dooh, Coov), which pyscf keeps, are described in D2h, or
+C2v without inversion. ``orbitals.point_group`` is the group whose irreps are
+stored, ``provenance.irrep_names`` the names of its irreps by number.
+
+Everything cheap is checked before the SCF: the unit, element symbols,
+atoms at one place, the electron count against the charge and 2S, the
+active space against the electrons. pyscf's warnings are not passed on, and
+its errors become one line.
 """
 
 from __future__ import annotations
 
+import warnings
 from math import comb
 
 import numpy as np
 
 from integrity._version import __version__
 from integrity.convert import history
+from integrity.energies.nuclear import atomic_number, nuclear_repulsion
 from integrity.errors import FieldError, UnsupportedError
 from integrity.io.xyz import geometry_text, read_geometry
 from integrity.model.hamiltonian import Electrons, Hamiltonian, Orbitals, Reference, TwoElectron
+from integrity.model.indexing import POINT_GROUP_ORDER
 
 DEFAULT_MAX_FCI_DETERMINANTS = 1_000_000
-LINEAR_SUBGROUP = {"Dooh": "D2h", "Coov": "C2v"}
+#: groups pyscf keeps whose irreps are not D2h's: the abelian subgroup used instead
+ABELIAN_SUBGROUP = {"SO3": "D2h", "Dooh": "D2h", "Coov": "C2v"}
 
 
 def build(
@@ -54,11 +67,50 @@ def build(
 
     ``date`` (YYYY-MM-DD) goes into the provenance; today's date (UTC) when None.
     """
-    from pyscf import gto
-
     if unit not in ("angstrom", "bohr"):
         raise FieldError("unit", f"{unit!r} is not a unit; use 'angstrom' or 'bohr'")
     atoms = read_geometry(geometry)
+    require_buildable(atoms, unit=unit, charge=charge, two_s=two_s, active=active)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore")  # pyscf's basis-set notes are not ours to print
+        return _build(
+            atoms, basis, unit, charge, two_s, unrestricted, active, symmetry, max_fci_determinants, title, date
+        )
+
+
+def require_buildable(atoms, *, unit: str = "angstrom", charge: int = 0, two_s: int = 0, active=None) -> None:
+    """Refuse, before any SCF, what cannot be built: unknown elements, atoms at one place, an electron count
+    that the charge leaves negative or that cannot have 2S, an active space with more electrons than there are.
+
+    >>> require_buildable([("H", (0.0, 0.0, 0.0)), ("H", (0.0, 0.0, 0.74))], two_s=1)
+    Traceback (most recent call last):
+    ...
+    integrity.errors.FieldError: two_s: 2 electrons (charge 0) cannot have 2S = 1 (2S must have the parity of ...
+    """
+    nuclear_repulsion(atoms, unit)  # element symbols known, no two atoms at one place
+    electrons = sum(atomic_number(symbol) for symbol, _ in atoms) - int(charge)
+    if electrons < 1:
+        raise FieldError("charge", f"charge {charge} leaves {electrons} electrons; a molecule needs at least one")
+    count = f"{electrons} electron{'s' if electrons != 1 else ''} (charge {charge})"
+    if two_s > electrons:
+        raise FieldError("two_s", f"{count} cannot have 2S = {two_s} (at most {electrons})")
+    if (electrons - two_s) % 2:
+        raise FieldError("two_s", f"{count} cannot have 2S = {two_s} (2S must have the parity of the electron count)")
+    if active is not None:
+        n_active, _ = active
+        if n_active > electrons or (electrons - n_active) % 2:
+            raise FieldError(
+                "active",
+                f"{n_active} active electrons leave {electrons - n_active} of {electrons} "
+                "for the frozen core, which needs an even, non-negative number",
+            )
+        if (n_active - two_s) % 2 or n_active < two_s:
+            raise FieldError("active", f"{n_active} active electrons cannot have 2S = {two_s}")
+
+
+def _build(atoms, basis, unit, charge, two_s, unrestricted, active, symmetry, max_fci_determinants, title, date):
+    from pyscf import gto
+
     mol = _molecule(gto, [[symbol, xyz] for symbol, xyz in atoms], basis, unit, charge, two_s, symmetry)
     mf = _scf(mol, two_s, unrestricted)
     n_active_electrons, ncore, norb = _active_space(mol, mf, active)
@@ -123,21 +175,25 @@ def _pyscf_version() -> str:
 
 
 def _molecule(gto, geometry, basis, unit, charge, two_s, symmetry):
+    def make(subgroup=None):
+        extra = {"symmetry_subgroup": subgroup} if subgroup else {}
+        return gto.M(
+            atom=geometry, basis=basis, unit=unit, charge=charge, spin=two_s, symmetry=symmetry, verbose=0, **extra
+        )
+
     try:
-        mol = gto.M(atom=geometry, basis=basis, unit=unit, charge=charge, spin=two_s, symmetry=symmetry, verbose=0)
-        if symmetry and mol.groupname in LINEAR_SUBGROUP:
-            mol = gto.M(
-                atom=geometry,
-                basis=basis,
-                unit=unit,
-                charge=charge,
-                spin=two_s,
-                symmetry=True,
-                symmetry_subgroup=LINEAR_SUBGROUP[mol.groupname],
-                verbose=0,
-            )
-    except (RuntimeError, KeyError, ValueError) as err:
-        raise FieldError("molecule", f"pyscf could not build it: {err}") from None
+        mol = make()
+        if symmetry and mol.groupname in ABELIAN_SUBGROUP:
+            mol = make(ABELIAN_SUBGROUP[mol.groupname])
+    except Exception as err:  # pyscf raises RuntimeError, KeyError, ValueError, AssertionError, its own kinds
+        text = " ".join(str(err).split())
+        if "basis" in text.lower() and ("unknown" in text.lower() or "not found" in text.lower()):
+            raise FieldError("basis_set", f"pyscf does not know the basis set {basis!r} for these atoms") from None
+        raise FieldError("molecule", f"pyscf could not build it: {type(err).__name__}: {text}") from None
+    if symmetry and mol.groupname not in POINT_GROUP_ORDER:
+        raise UnsupportedError(
+            "point_group", f"pyscf reports point group {mol.groupname!r}, which has no abelian subgroup here"
+        )
     return mol
 
 
@@ -216,8 +272,7 @@ def _active_irreps(mol, mf, ncore, norb, unrestricted):
 def _irrep_names(mol):
     from pyscf import symm
 
-    order = {"C1": 1, "Ci": 2, "C2": 2, "Cs": 2, "C2v": 4, "C2h": 4, "D2": 4, "D2h": 8}[mol.groupname]
-    return [symm.irrep_id2name(mol.groupname, i) for i in range(order)]
+    return [symm.irrep_id2name(mol.groupname, i) for i in range(POINT_GROUP_ORDER[mol.groupname])]
 
 
 def _hf_reference(mf, ncore, norb, unrestricted) -> Reference:

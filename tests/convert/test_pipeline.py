@@ -77,7 +77,7 @@ def test_metadata_that_is_not_converted_travels_unchanged():
             "spin_layout",
             r"'mixed' is not allowed",
         ),
-        ({"tolerance": -1.0}, "tolerance", r"expected a number >= 0 \(hartree\), got -1.0"),
+        ({"tolerance": -1.0}, "tolerance", r"expected a finite number >= 0 \(hartree\), got -1.0"),
         ({"allow_loss": "yes"}, "allow_loss", r"expected True or False, got 'yes'"),
         ({"antisymmetrize": 1}, "antisymmetrize", r"expected True or False, got 1"),
     ],

@@ -146,7 +146,7 @@ def test_wrap_writes_the_arrays_unchanged_with_the_stated_conventions(runner, in
     arrays = _npz("ints.npz", rng, n=3)
     result = runner.invoke(main, ["wrap", "ints.npz", "out.h5", *_wrap_args(**{"--core-energy": "0.75"})])
     assert result.exit_code == 0, result.output
-    assert result.stdout.strip() == "wrote out.h5"
+    assert result.stdout.strip() == "wrote out.h5: 3 restricted orbitals"
     ham = load("out.h5")
     assert_same_bits(ham.one_electron, arrays["one_electron"], "one_electron")
     assert_same_bits(ham.two_electron.array, arrays["two_electron"], "two_electron")

@@ -172,7 +172,11 @@ def test_h2_irreps_are_those_of_d2h_and_the_one_electron_matrix_respects_them(h2
 def test_the_build_command_writes_the_same_h2_file(runner, in_tmp, h2):
     result = runner.invoke(main, ["build", "out.h5", *_geometry(H2), "--unit", "bohr", "--basis-set", "sto-3g"])
     assert result.exit_code == 0, result.output
-    printed = re.fullmatch(r"wrote out\.h5: 2 restricted orbitals, hf (\S+), fci (\S+)\n", result.stdout)
+    printed = re.fullmatch(
+        r"wrote out\.h5: 2 restricted orbitals, point group D2h, "
+        r"hf (\S+), fci (\S+)\n",
+        result.stdout,
+    )
     assert printed, result.stdout
     assert is_close_to(float(printed[1]), SZABO_E_HF, 4)
     assert is_close_to(float(printed[2]), SZABO_E_FCI, 4)
