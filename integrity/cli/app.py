@@ -9,6 +9,7 @@ from integrity.cli.build import build
 from integrity.cli.check import check
 from integrity.cli.convert import convert
 from integrity.cli.diagnose import diagnose
+from integrity.cli.options import report_error, signals_as_interrupts
 from integrity.cli.show import show
 from integrity.cli.solve import solve
 from integrity.cli.wrap import wrap
@@ -16,14 +17,25 @@ from integrity.cli.wrap import wrap
 COMMANDS = (check, show, solve, diagnose, convert, wrap, build)
 
 
-class _InOrder(click.Group):
-    """Lists the subcommands in the order registered, not alphabetically."""
+class _Integrity(click.Group):
+    """Lists the subcommands in the order registered; turns SIGTERM into an interrupt while it runs, and
+    every error outside a command (an option that fails to convert) into one line and exit status 2."""
 
     def list_commands(self, ctx):
         return list(self.commands)
 
+    def main(self, *args, **kwargs):
+        with signals_as_interrupts():
+            return super().main(*args, **kwargs)
 
-@click.group(cls=_InOrder, context_settings={"help_option_names": ["-h", "--help"], "max_content_width": 100})
+    def invoke(self, ctx):
+        try:
+            return super().invoke(ctx)
+        except BaseException as err:
+            ctx.exit(report_error(err, bool(ctx.params.get("debug"))))
+
+
+@click.group(cls=_Integrity, context_settings={"help_option_names": ["-h", "--help"], "max_content_width": 100})
 @click.version_option(__version__, prog_name="integrity")
 @click.option("--debug", is_flag=True, help="Show a traceback instead of a one-line error.")
 def main(debug):

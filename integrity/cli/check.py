@@ -35,7 +35,7 @@ def _list_checks(ctx, param, value):
     multiple=True,
     metavar="ID=VALUE",
     callback=parse_tolerances,
-    help="Limit for one check, e.g. energy.hf=1e-8 (repeatable).",
+    help="Limit for one check, e.g. energy.hf=1e-8 (repeatable); --list shows the side of 0 each takes.",
 )
 @engine_option("Full-CI engine for energy.fci; both: a disagreement fails.")
 @memory_option("Memory budget; larger arrays are checked block by block.")

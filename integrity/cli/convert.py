@@ -4,8 +4,8 @@ from __future__ import annotations
 
 import click
 
-from integrity.cli.options import guarded, memory_option, overwrite_option
-from integrity.cli.render import conversion_text
+from integrity.cli.options import NON_NEGATIVE, guarded, memory_option, overwrite_option
+from integrity.cli.render import conversion_plan_text, conversion_text
 
 
 @click.command(short_help="Convert a file into another form or container.")
@@ -22,10 +22,10 @@ from integrity.cli.render import conversion_text
 @click.option("--antisymmetrize", is_flag=True, help="Store <pq||rs> (spin-orbital, physicist; cannot be undone).")
 @click.option(
     "--tolerance",
-    type=float,
+    type=NON_NEGATIVE,
     default=1e-10,
     show_default=True,
-    help="Largest deviation a lossy step may drop without --allow-loss (hartree).",
+    help="Largest deviation a lossy step may drop without --allow-loss (hartree, finite, >= 0).",
 )
 @overwrite_option()
 @click.option("--allow-loss", is_flag=True, help="Do lossy steps beyond the tolerance (recorded in the history).")
@@ -34,7 +34,7 @@ from integrity.cli.render import conversion_text
     is_flag=True,
     help="Convert a file whose checksum does not match its content (recorded in the history).",
 )
-@memory_option("Largest array IN may declare.")
+@memory_option("Largest array IN may declare, and what the input and output arrays may take together.")
 @guarded
 def convert(
     in_path,
@@ -55,7 +55,9 @@ def convert(
     Several steps in one call, applied in the order basis, spin layout,
     notation, antisymmetrization, storage. A step that would lose information
     is refused unless --allow-loss; the fingerprint changes only when the
-    Hamiltonian's content does (basis, layout, antisymmetrization).
+    Hamiltonian's content does (basis, layout, antisymmetrization). The size of
+    the result is printed before it is computed (spin orbitals take 16 times
+    the space of spatial ones); beyond --memory the conversion is refused.
 
     \b
     Examples:
@@ -70,6 +72,7 @@ def convert(
         out_path,
         overwrite=overwrite,
         memory=memory,
+        on_plan=lambda size: click.echo(conversion_plan_text(out_path, size)),
         notation=notation,
         storage=storage,
         basis=basis,

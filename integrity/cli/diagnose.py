@@ -4,20 +4,20 @@ from __future__ import annotations
 
 import click
 
-from integrity.cli.options import EXIT_FAILED, format_option, guarded, memory_option
+from integrity.cli.options import EXIT_FAILED, FINITE, POSITIVE, format_option, guarded, memory_option, options_named
 from integrity.cli.render import as_json, diagnosis_text
 
 
 @click.command(short_help="Explain why an energy does not match.")
 @click.argument("file", type=click.Path(dir_okay=False))
-@click.option("--expected", type=float, help="The energy someone expected (hartree).")
+@click.option("--expected", type=FINITE, help="The energy someone expected (hartree, finite).")
 @click.option("--reference", "label", metavar="LABEL", help="Explain a stored reference instead.")
 @click.option(
     "--method",
     type=click.Choice(["hf", "fci"]),
     help="What the expected energy is: the determinant (hf) or full CI (default fci).",
 )
-@click.option("--tolerance", type=float, default=1e-6, show_default=True, help="Hartree.")
+@click.option("--tolerance", type=POSITIVE, default=1e-6, show_default=True, help="Hartree (finite, > 0).")
 @memory_option("Memory budget.")
 @format_option()
 @guarded
@@ -36,9 +36,9 @@ def diagnose(file, expected, label, method, tolerance, memory, output_format):
 
     if (expected is None) == (label is None):
         raise click.UsageError("give --expected E or --reference LABEL")
-    finding = explain(
-        load(file, memory=memory), expected=expected, reference=label, method=method, tolerance=tolerance, memory=memory
-    )
+    ham = load(file, memory=memory)
+    with options_named({"expected": "--expected", "method": "--method"}):
+        finding = explain(ham, expected=expected, reference=label, method=method, tolerance=tolerance, memory=memory)
     if output_format == "json":
         click.echo(as_json({"path": file, **finding.as_dict()}))
     else:

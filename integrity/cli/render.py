@@ -2,48 +2,109 @@
 
 Text is one line per fact; a JSON document is ``json.dumps`` of a result's
 ``as_dict()``. Nothing here computes: it formats what the library returned.
+
+Whatever came from a file or the command line (paths, titles, labels,
+messages quoting them) passes through :func:`printable` before it is printed:
+control characters (a newline in a file name), format characters (a
+right-to-left override) and lone surrogates (undecodable bytes of a name)
+are written as Python escapes, so a report line stays one line and printing
+never fails on a text the terminal cannot encode. JSON documents hold no NaN
+or infinity (they are not JSON): a non-finite number is written as null.
 """
 
 from __future__ import annotations
 
 import json
+import math
+import unicodedata
+
+import numpy as np
+
+#: character categories written as escapes: control, format, surrogate, line and paragraph separators
+ESCAPED_CATEGORIES = frozenset({"Cc", "Cf", "Cs", "Zl", "Zp"})
+
+
+def printable(text) -> str:
+    """``text`` with control, format and surrogate characters written as escapes.
+
+    >>> printable("h2\\n.h5"), printable("bad\\udcff"), printable("ok é")
+    ('h2\\\\n.h5', 'bad\\\\udcff', 'ok é')
+    """
+    text = str(text)
+    if text.isprintable():
+        return text
+    return "".join(
+        char.encode("unicode_escape").decode("ascii") if unicodedata.category(char) in ESCAPED_CATEGORIES else char
+        for char in text
+    )
+
+
+def one_line(text) -> str:
+    """A message as one printable line: runs of white space (line breaks too) become one space.
+
+    >>> one_line("Unknown basis format or basis name\\nnonsense")
+    'Unknown basis format or basis name nonsense'
+    """
+    return printable(" ".join(str(text).split()))
+
+
+def finite_json(value):
+    """``value`` with every non-finite float as None and NumPy scalars as Python ones (what JSON can hold).
+
+    >>> finite_json({"a": [1.5, float("inf")], "b": np.float64("nan"), "c": np.int64(3)})
+    {'a': [1.5, None], 'b': None, 'c': 3}
+    """
+    if isinstance(value, dict):
+        return {str(k): finite_json(v) for k, v in value.items()}
+    if isinstance(value, list | tuple):
+        return [finite_json(v) for v in value]
+    if isinstance(value, bool | np.bool_):
+        return bool(value)
+    if isinstance(value, np.integer):
+        return int(value)
+    if isinstance(value, float | np.floating):
+        return float(value) if math.isfinite(value) else None
+    return value
 
 
 def as_json(document) -> str:
-    """A JSON document, indented; NaN and infinities are refused (they are not JSON)."""
-    return json.dumps(document, indent=2, allow_nan=False)
+    """A JSON document, indented; non-finite numbers become null."""
+    return json.dumps(finite_json(document), indent=2, allow_nan=False)
 
 
 def _figure(value) -> str:
     return "-" if value is None else f"{value:.3g}"
 
 
+def _plural(count: int, word: str) -> str:
+    """``1 check``, ``2 checks``."""
+    return f"{count} {word}" + ("" if count == 1 else "s")
+
+
 def file_report_text(report, strict: bool = False) -> str:
     """One line for a passing file; for a failing one, one line per failing check."""
+    path = printable(report.path)
     if report.status == "unreadable":
-        return f"{report.path}: unreadable: {report.error}"
+        return f"{path}: unreadable: {one_line(report.error)}"
     counted = [r for r in report.results if r.status != "skip"]
     skipped = len(report.results) - len(counted)
     warnings = [r for r in report.results if r.status == "warn"]
     if report.status == "pass":
         extra = f", {skipped} skipped" if skipped else ""
         if warnings:
-            extra += f", {len(warnings)} warning(s): {', '.join(r.id for r in warnings)}"
-        return f"{report.path}: pass ({_checks(len(counted))}{extra})"
+            extra += f", {_plural(len(warnings), 'warning')}: {', '.join(r.id for r in warnings)}"
+        return f"{path}: pass ({_plural(len(counted), 'check')}{extra})"
     shown = [r for r in report.results if r.status == "fail" or (strict and r.status == "warn")]
-    lines = [f"{report.path}: fail ({len(shown)} of {_checks(len(counted))})"]
+    lines = [f"{path}: fail ({len(shown)} of {_plural(len(counted), 'check')})"]
     for result in shown:
-        where = f", at {result.where}" if result.where is not None else ""
+        where = f", at {printable(result.where)}" if result.where is not None else ""
         lines.append(
-            f"  {result.id}: {result.message} [value {_figure(result.value)}, limit {_figure(result.limit)}{where}]"
+            f"  {result.id}: {one_line(result.message)} "
+            f"[value {_figure(result.value)}, limit {_figure(result.limit)}{where}]"
         )
     if not shown:
         lines.append("  the file could not be assembled into a Hamiltonian")
     return "\n".join(lines)
-
-
-def _checks(count: int) -> str:
-    return f"{count} check" + ("" if count == 1 else "s")
 
 
 def batch_text(batch) -> str:
@@ -52,17 +113,25 @@ def batch_text(batch) -> str:
 
 
 def check_list_text(specs) -> str:
-    """``integrity check --list``: id, summary and default limit of every check."""
+    """``integrity check --list``: id, summary, and when each check fails (the direction of its limit)."""
     lines = []
     for spec in specs:
-        limit = "" if spec.limit is None else f" (limit {spec.limit:g})"
-        lines.append(f"{spec.id:<24}{spec.summary}{limit}")
+        rule = spec.rule + ("" if spec.tunable else ": a count of problems")
+        lines.append(f"{spec.id:<24}{spec.summary} ({rule})")
     return "\n".join(lines)
 
 
-def solve_text(path, results) -> str:
-    """Energies, 2S, <S^2>, irrep and residual of each root, per engine."""
-    lines = [str(path)]
+def _irrep_label(irrep, names) -> str:
+    if irrep is None:
+        return "-"
+    if names and 0 <= irrep < len(names):
+        return names[irrep]
+    return str(irrep)
+
+
+def solve_text(path, results, irrep_names=None) -> str:
+    """Energies, 2S, <S^2>, irrep and residual of each root, per engine; irreps by name when the file names them."""
+    lines = [printable(path)]
     for result in results:
         counts = (
             f"{result.n_alpha} alpha, {result.n_beta} beta"
@@ -71,18 +140,18 @@ def solve_text(path, results) -> str:
         )
         lines.append(
             f"  {result.engine}: {counts}, {result.determinants} determinants"
-            + (f", {result.iterations} iterations" if result.iterations is not None else "")
+            + (f", {_plural(result.iterations, 'iteration')}" if result.iterations is not None else "")
         )
         lines.append(f"  {'root':>6} {'energy / hartree':>20} {'2S':>4} {'<S^2>':>10} {'irrep':>6} {'residual':>10}")
         for index, root in enumerate(result.roots):
             two_s = "-" if root.two_s is None else str(root.two_s)
             s2 = "-" if root.s_squared is None else f"{root.s_squared:.6f}"
-            irrep = "-" if root.irrep is None else str(root.irrep)
+            irrep = _irrep_label(root.irrep, irrep_names)
             flag = "" if root.converged else "  (not converged)"
             lines.append(
                 f"  {index:>6} {root.energy:>20.10f} {two_s:>4} {s2:>10} {irrep:>6} {root.residual_norm:>10.1e}{flag}"
             )
-        lines += [f"  note: {note}" for note in result.notes]
+        lines += [f"  note: {one_line(note)}" for note in result.notes]
     return "\n".join(lines)
 
 
@@ -93,14 +162,30 @@ def conversion_text(result, out_path) -> str:
         dropped = f", dropped up to {step['dropped_max_deviation']:.3g}" if "dropped_max_deviation" in step else ""
         changed = " (new fingerprint)" if step.get("fingerprint_changed") else ""
         lines.append(f"{step['step']}: {step['from']} -> {step['to']}{dropped}{changed}")
-    lines.append(f"wrote {out_path} ({result.hamiltonian.checksum})")
+    lines.append(f"wrote {printable(out_path)} ({result.hamiltonian.checksum})")
     return "\n".join(lines)
+
+
+def conversion_plan_text(out_path, size: dict) -> str:
+    """What a conversion is about to write: the arrays' size against the input's."""
+    from integrity.io import format_bytes
+
+    ratio = size["output"] / size["input"] if size["input"] else float("inf")
+    factor = f"{ratio:.3g}x the input's {format_bytes(size['input'])}" if math.isfinite(ratio) else "from nothing"
+    return f"writing {printable(out_path)}: arrays of {format_bytes(size['output'])} ({factor})"
+
+
+def _hypothesis_line(h, explained: bool) -> str:
+    text = f"    {h.name}: {one_line(h.description)}"
+    if h.energy is not None:
+        return text + (f" ({h.energy:.10f})" if explained else f" -> {h.energy:.10f}")
+    return text + (f" ({one_line(h.note)})" if h.note else "")
 
 
 def diagnosis_text(diagnosis, path: str) -> str:
     """Plain-text report of a diagnosis."""
     head = (
-        f"{path}: expected {diagnosis.expected:.10f}, the file gives {diagnosis.computed:.10f} "
+        f"{printable(path)}: expected {diagnosis.expected:.10f}, the file gives {diagnosis.computed:.10f} "
         f"({diagnosis.method}; difference {diagnosis.difference:.3g}, tolerance {diagnosis.tolerance:.3g})"
     )
     if diagnosis.matches:
@@ -109,29 +194,43 @@ def diagnosis_text(diagnosis, path: str) -> str:
     explanations = diagnosis.explanations
     if explanations:
         lines.append("  hypotheses that reproduce the expected energy:")
-        lines += [
-            f"    {h.name}: {h.description}" + (f" ({h.energy:.10f})" if h.energy is not None else "")
-            for h in explanations
-        ]
+        lines += [_hypothesis_line(h, True) for h in explanations]
     else:
         lines.append("  no hypothesis reproduces the expected energy; tried:")
-        lines += [
-            f"    {h.name}: {h.description}" + (f" -> {h.energy:.10f}" if h.energy is not None else f" ({h.note})")
-            for h in diagnosis.hypotheses[1:]
-        ]
+        lines += [_hypothesis_line(h, False) for h in diagnosis.hypotheses[1:]]
     return "\n".join(lines)
 
 
+def _value_text(value) -> str:
+    """A provenance value on one line: numbers as they are, text escaped, atom lines joined by '; '."""
+    if isinstance(value, str):
+        return printable("; ".join(line.strip() for line in value.splitlines() if line.strip()))
+    return printable(value)
+
+
+def _history_text(step) -> str:
+    if not isinstance(step, dict):
+        return printable(step)
+    head = " ".join(str(step[k]) for k in ("date", "step") if k in step)
+    move = f" {step.get('from')} -> {step.get('to')}" if "from" in step or "to" in step else ""
+    extra = ", ".join(
+        f"{k} {v}" for k, v in step.items() if k not in ("date", "step", "from", "to", "tool", "fingerprint_changed")
+    )
+    tool = f" ({step['tool']})" if "tool" in step else ""
+    changed = ", new fingerprint" if step.get("fingerprint_changed") else ""
+    return printable(f"{head}{move}{tool}{changed}" + (f"; {extra}" if extra else ""))
+
+
 def summary_text(path: str, summary: dict) -> str:
-    """Plain-text rendering, one fact per line."""
+    """Plain-text rendering of ``integrity show``, one fact per line."""
     orb = summary["orbitals"]
-    lines = [str(path)]
+    lines = [printable(path)]
 
     def row(name, text):
         lines.append(f"  {name:<13}{text}")
 
     if summary["title"]:
-        row("title", summary["title"])
+        row("title", printable(summary["title"]))
     details = [f"{orb['count']} {orb['basis']}"]
     if orb["spin_layout"]:
         details.append(f"{orb['spin_layout']} layout")
@@ -142,8 +241,10 @@ def summary_text(path: str, summary: dict) -> str:
     if orb["canonical"]:
         details.append("canonical")
     row("orbitals", ", ".join(details))
+    if orb.get("irrep_names") and orb["irreps"] is not None:
+        row("irrep names", printable(" ".join(orb["irrep_names"])))
     row("electrons", f"{summary['electrons']['alpha']} alpha, {summary['electrons']['beta']} beta")
-    parts = ", ".join(f"{k} {v:.10g}" for k, v in summary["core_energy_parts"].items())
+    parts = ", ".join(f"{printable(k)} {v:.10g}" for k, v in summary["core_energy_parts"].items())
     row("core energy", f"{summary['core_energy']:.10g} hartree" + (f" ({parts})" if parts else ""))
     one = summary["one_electron"]
     row("one-electron", f"{tuple(one['shape'])} {one['dtype']}, norm {one['norm']:.6g}, max |h| {one['max_abs']:.6g}")
@@ -158,6 +259,16 @@ def summary_text(path: str, summary: dict) -> str:
     if not summary["references"]:
         row("references", "none")
     for i, ref in enumerate(summary["references"]):
-        extra = "".join(f", {k} {ref[k]}" for k in ("two_s", "irrep", "root", "electrons") if k in ref)
-        row("references" if i == 0 else "", f"{ref['label']}: {ref['method']} {ref['energy']:.10f} hartree{extra}")
+        extra = "".join(
+            f", {k} {printable(ref[k])}" for k in ("two_s", "irrep", "root", "electrons", "tolerance") if k in ref
+        )
+        row(
+            "references" if i == 0 else "",
+            f"{printable(ref['label'])}: {printable(ref['method'])} {ref['energy']:.10f} hartree{extra}",
+        )
+    provenance = summary.get("provenance") or {}
+    for i, (key, value) in enumerate(provenance.items()):
+        row("provenance" if i == 0 else "", f"{printable(key)}: {_value_text(value)}")
+    for i, step in enumerate(summary.get("history") or []):
+        row("history" if i == 0 else "", f"{i + 1}. {_history_text(step)}")
     return "\n".join(lines)

@@ -4,8 +4,18 @@ from __future__ import annotations
 
 import click
 
-from integrity.cli.options import engine_option, format_option, guarded, memory_option
+from integrity.cli.options import engine_option, format_option, guarded, memory_option, options_named
 from integrity.cli.render import as_json, solve_text
+
+#: the solver's argument names, as the options that set them
+SOLVE_OPTIONS = {
+    "n_alpha": "--alpha",
+    "n_beta": "--beta",
+    "n_electrons": "--electrons",
+    "two_s": "--two-s",
+    "irrep": "--irrep",
+    "nroots": "--roots",
+}
 
 
 @click.command(short_help="Full-CI energies of the lowest states.")
@@ -23,7 +33,9 @@ from integrity.cli.render import as_json, solve_text
 @format_option()
 @guarded
 def solve(file, roots, alpha, beta, electrons, two_s, irrep, engine, memory, output_format):
-    """Full-CI energies of the lowest states of FILE, with their 2S (and irrep).
+    """Full-CI energies of the lowest states of FILE, with their 2S and, when the file has irreps, their irrep
+    (by name when its provenance names them). A 2S that no state of the electron counts can have is refused
+    at once.
 
     \b
     Examples:
@@ -32,6 +44,7 @@ def solve(file, roots, alpha, beta, electrons, two_s, irrep, engine, memory, out
     """
     from integrity.energies import solve as solve_hamiltonian
     from integrity.io import load
+    from integrity.model.summary import irrep_names
 
     if (alpha is None) != (beta is None):
         raise click.UsageError("give both --alpha and --beta, or neither")
@@ -39,21 +52,23 @@ def solve(file, roots, alpha, beta, electrons, two_s, irrep, engine, memory, out
         raise click.UsageError("give --electrons or --alpha/--beta, not both")
     ham = load(file, memory=memory)
     engines = ("native", "pyscf") if engine == "both" else (engine,)
-    results = [
-        solve_hamiltonian(
-            ham,
-            alpha=alpha,
-            beta=beta,
-            electrons=electrons,
-            roots=roots,
-            two_s=two_s,
-            irrep=irrep,
-            engine=name,
-            memory=memory,
-        )
-        for name in engines
-    ]
+    with options_named(SOLVE_OPTIONS):
+        results = [
+            solve_hamiltonian(
+                ham,
+                alpha=alpha,
+                beta=beta,
+                electrons=electrons,
+                roots=roots,
+                two_s=two_s,
+                irrep=irrep,
+                engine=name,
+                memory=memory,
+            )
+            for name in engines
+        ]
+    names = irrep_names(ham)
     if output_format == "json":
-        click.echo(as_json({"path": file, "results": [r.as_dict() for r in results]}))
+        click.echo(as_json({"path": file, "irrep_names": names, "results": [r.as_dict() for r in results]}))
     else:
-        click.echo(solve_text(file, results))
+        click.echo(solve_text(file, results, names))
