@@ -83,12 +83,12 @@ def hf_rows(ham, ctx) -> list[dict]:
     return ctx.cache["hf rows"]
 
 
-def _cause(ham, ref, computed, tolerance, ctx, differences, fallback) -> str:
+def _cause(ham, ref, computed, tolerance, ctx, differences) -> str | None:
     """The likely cause of a missed reference: a constant every reference shares, or diagnose's hypotheses."""
     offset = common_offset(differences, tolerance)
     if offset is not None:
         return offset_text(ham, offset, len(differences), tolerance)
-    return "; ".join(likely_causes(ham, ref.label, computed, tolerance, ctx.memory)) or fallback
+    return "; ".join(likely_causes(ham, ref.label, computed, tolerance, ctx.memory)) or None
 
 
 def _difference_text(difference: float) -> str:
@@ -112,18 +112,14 @@ def check_hf(ham, ctx) -> Result:
             return _loosened_warning(loosened, rows, text, ctx)
         return passed(text, value=value, limit=limit, details=details)
     ref = ham.reference(worst["label"])
-    cause = _cause(
-        ham,
-        ref,
-        worst["computed"],
-        limit,
-        ctx,
-        [row["difference"] for row in rows],
-        "the integrals, the occupation or the reference energy disagree (see two_electron.notation and "
-        "electrons.count)",
-    )
-    if len(rows) == 1 and any(r.method == "fci" for r in ham.references):
-        cause += "; energy.fci tells whether the fci references are off by the same constant"
+    cause = _cause(ham, ref, worst["computed"], limit, ctx, [row["difference"] for row in rows])
+    if cause is None:
+        cause = (
+            "the integrals, the occupation or the reference energy disagree (see two_electron.notation and "
+            "electrons.count)"
+        )
+        if len(rows) == 1 and any(r.method == "fci" for r in ham.references):
+            cause += "; energy.fci tells whether the fci references are off by the same constant"
     return failed(
         f"reference {ref.label!r} says {ref.energy:.10f} but the determinant gives {worst['computed']:.10f} "
         f"({_difference_text(worst['difference'])}, limit {figure(limit)}); {cause}",
@@ -222,15 +218,8 @@ def check_fci(ham, ctx) -> Result:
     else:
         differences = [row["difference"] for row in rows] + [row["difference"] for row in hf_rows(ham, ctx)]
         notes = [note for note in first["notes"] if "not conserved" in note]
-        cause = _cause(
-            ham,
-            ref,
-            first["energy"],
-            limit,
-            ctx,
-            differences,
-            "; ".join(notes) or "the integrals, the electron counts or the reference disagree",
-        )
+        found = [text for text in [_cause(ham, ref, first["energy"], limit, ctx, differences)] if text]
+        cause = "; ".join(found + notes) or "the integrals, the electron counts or the reference disagree"
         message = (
             f"reference {ref.label!r} says {ref.energy:.10f} but full CI ({first['engine']}, {found}) "
             f"gives {first['energy']:.10f} ({_difference_text(difference)}, limit {figure(limit)}); {cause}"

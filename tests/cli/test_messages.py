@@ -273,3 +273,23 @@ def test_json_null_is_printed_as_null_and_no_none_reaches_the_text(runner):
     )
     assert "null" in as_json_text.stdout and "None" not in as_json_text.stdout
     assert not math.isnan(json.loads(as_json_text.stdout)["expected"])
+
+
+MINIMAL_ARGS = {
+    "check": [LIH],
+    "show": [LIH],
+    "solve": [LIH],
+    "diagnose": [LIH, "--reference", "fci"],
+    "convert": [LIH, "out.json"],
+    "wrap": ["ints.npz", "out.h5", "--notation", "chemist", "--alpha", "1", "--beta", "1", "--basis", "restricted"],
+    "build": ["out.h5", "--geometry", "He 0 0 0", "--basis-set", "sto-3g"],
+}
+
+
+@pytest.mark.parametrize("name", sorted(MINIMAL_ARGS))
+def test_every_command_turns_an_unforeseen_exception_into_one_line_and_exit_two(runner, in_tmp, monkeypatch, name):
+    np.savez("ints.npz", one_electron=np.eye(2), two_electron=np.zeros((2,) * 4))
+    command = main.commands[name]
+    monkeypatch.setattr(command, "callback", _raising(ZeroDivisionError("deep inside")))
+    _one_error_line(runner.invoke(main, [name, *MINIMAL_ARGS[name]]), "ZeroDivisionError: deep inside")
+    assert not (in_tmp / "out.h5").exists() and not (in_tmp / "out.json").exists()
