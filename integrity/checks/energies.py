@@ -218,8 +218,8 @@ def check_fci(ham, ctx) -> Result:
     else:
         differences = [row["difference"] for row in rows] + [row["difference"] for row in hf_rows(ham, ctx)]
         notes = [note for note in first["notes"] if "not conserved" in note]
-        found = [text for text in [_cause(ham, ref, first["energy"], limit, ctx, differences)] if text]
-        cause = "; ".join(found + notes) or "the integrals, the electron counts or the reference disagree"
+        explained = [text for text in [_cause(ham, ref, first["energy"], limit, ctx, differences)] if text]
+        cause = "; ".join(explained + notes) or "the integrals, the electron counts or the reference disagree"
         message = (
             f"reference {ref.label!r} says {ref.energy:.10f} but full CI ({first['engine']}, {found}) "
             f"gives {first['energy']:.10f} ({_difference_text(difference)}, limit {figure(limit)}); {cause}"

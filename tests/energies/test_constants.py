@@ -56,6 +56,7 @@ def test_every_reference_off_by_one_constant_is_said_with_the_constant():
     shifted = ham.replace(core_energy=ham.core_energy + 0.25, core_energy_parts=None, checksum=None)
     hf, fci = check(shifted, only=("energy.hf", "energy.fci")).results
     assert hf.status == fci.status == "fail"
+    assert "full CI (native, 2S = 0) gives" in fci.message
     assert "off by the same constant -0.2500000000 hartree" in fci.message
     assert f"with core_energy {ham.core_energy:.10f} every reference matches" in fci.message
     assert "energy.fci tells whether the fci references are off by the same constant" in hf.message
