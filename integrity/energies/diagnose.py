@@ -147,11 +147,12 @@ def offset_text(ham: Hamiltonian, offset: float, count: int, tolerance: float) -
         f"them, the constant does not; core_energy {ham.core_energy:.10f} is probably wrong or missing a part "
         f"(with core_energy {ham.core_energy + offset:.10f} every reference matches)"
     )
+    hints = constant_hints(ham, offset, tolerance)
+    if hints:
+        return "; ".join([text, *hints])
     nuclear = provenance_nuclear_repulsion(ham.provenance)
     if nuclear is not None:
-        text += f"; the geometry in provenance has nuclear repulsion {nuclear:.10f} hartree"
-        if abs(offset - nuclear) <= tolerance:
-            text += ", which is the constant: core_energy lacks it"
+        text += f"; the geometry in provenance has nuclear repulsion {nuclear:.10f} hartree, which is not the constant"
     return text
 
 

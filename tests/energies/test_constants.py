@@ -59,6 +59,7 @@ def test_every_reference_off_by_one_constant_is_said_with_the_constant():
     assert "full CI (native, 2S = 0) gives" in fci.message
     assert "off by the same constant -0.2500000000 hartree" in fci.message
     assert f"with core_energy {ham.core_energy:.10f} every reference matches" in fci.message
+    assert "which is not the constant" in fci.message  # the geometry's nuclear repulsion was compared
     assert "energy.fci tells whether the fci references are off by the same constant" in hf.message
 
 
@@ -69,7 +70,11 @@ def test_a_core_energy_lacking_the_nuclear_repulsion_is_named_from_the_geometry_
     report = check(electronic, only=("energy.hf", "energy.fci"))
     fci = report.results[1]
     assert fci.status == "fail"
-    assert f"nuclear repulsion {nuclear:.10f} hartree, which is the constant: core_energy lacks it" in fci.message
+    assert "all 2 references are off by the same constant" in fci.message
+    assert (
+        f"the difference equals the nuclear repulsion of the geometry in provenance ({nuclear:.10f} hartree): "
+        "core_energy lacks it"
+    ) in fci.message
     finding = diagnose(electronic, reference="hf")
     assert any("nuclear repulsion of the geometry in provenance" in h.description for h in finding.explanations)
 
