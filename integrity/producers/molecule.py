@@ -201,6 +201,10 @@ def _scf(mol, two_s, unrestricted):
     from pyscf import scf
 
     mf = scf.UHF(mol) if unrestricted else (scf.RHF(mol) if two_s == 0 else scf.ROHF(mol))
+    scratch = getattr(mf, "_chkfile", None)
+    if scratch is not None:  # no checkpoint file: nothing reads it, and an open one outlives the build
+        scratch.close()
+    mf.chkfile = None
     mf.conv_tol = 1e-11
     mf.max_cycle = 200
     mf.kernel()
