@@ -15,7 +15,7 @@ import pytest
 
 from integrity.compare import compare
 from integrity.convert import convert
-from integrity.io import load, save
+from integrity.io import save
 from integrity.model.hamiltonian import Electrons, Hamiltonian, Orbitals, Reference, TwoElectron
 
 ATOMS = [("N", (0.0, 0.0, 0.0)), ("H", (0.98, 0.12, -0.21)), ("H", (-0.41, 0.93, -0.30)), ("H", (-0.33, -0.52, 0.88))]
