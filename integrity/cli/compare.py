@@ -59,7 +59,7 @@ def compare(first, second, tolerance, roots, accept, search_limit, memory, outpu
 
     \b
     Examples:
-      integrity compare fixtures/compare/halden_water_cas66.h5 fixtures/compare/quill_water_cas66.json
+      integrity compare fixtures/compare/halden_water_631g_cas66.h5 fixtures/compare/quill_water_631g_cas66.json
       integrity compare ours.h5 theirs.json --accept spectrum --roots 5
     """
     from integrity.compare import compare as compare_files

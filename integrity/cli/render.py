@@ -240,7 +240,7 @@ def comparison_text(comparison) -> str:
     if comparison.common_form:
         lines.append(f"  compared as {comparison.common_form}")
     for step in comparison.steps:
-        lines.append(f"  {step.rung} {step.name:<10} {_yes_no(step.holds):<10} {step.evidence}")
+        lines.append(f"  {step.rung} {step.name:<10} {_yes_no(step.holds):<9} {step.evidence}")
     relabelling = comparison.relabelling
     if relabelling is not None and not relabelling.is_identity:
         exchange = ", after exchanging alpha and beta" if relabelling.exchange_spins else ""

@@ -362,9 +362,9 @@ def _depth_first(a, b, domain, pairs_a, pairs_b, tolerance, state, node_limit, l
     def descend(current: np.ndarray):
         open_rows = np.flatnonzero(assignment < 0)
         if len(open_rows) == 0:
-            state["leaves"] += 1
-            if state["leaves"] > leaf_limit:
+            if state["leaves"] >= leaf_limit:
                 raise _Stop
+            state["leaves"] += 1
             return _signs_for(a, b, assignment.copy(), tolerance)
         counts = current[open_rows].sum(axis=1)
         p = int(open_rows[np.argmin(counts)])
@@ -372,9 +372,9 @@ def _depth_first(a, b, domain, pairs_a, pairs_b, tolerance, state, node_limit, l
         if current[p, p]:
             choices = np.concatenate([[p], choices[choices != p]])
         for q in choices:
-            state["nodes"] += 1
-            if state["nodes"] > node_limit:
+            if state["nodes"] >= node_limit:
                 raise _Stop
+            state["nodes"] += 1
             narrowed = current & compatible(p, int(q))
             narrowed[:, q] = False
             narrowed[p] = False

@@ -33,6 +33,9 @@ from integrity.model.hamiltonian import Hamiltonian, Reference
 
 #: diagnose's full-CI solves converge energies to 1e-9 hartree, so a hypothesis is judged no finer than this
 HYPOTHESIS_FLOOR = 1e-8
+#: diagnose re-solves full CI for each of about twenty hypotheses; beyond this many determinants it
+#: judges the determinant (hf) energies instead, which cost one Fock build each
+DIAGNOSE_FCI_DETERMINANTS = 20_000
 
 
 def hf_reference(ham: Hamiltonian) -> Reference | None:
@@ -118,8 +121,10 @@ def named_constant(a: Hamiltonian, b: Hamiltonian, difference: float, tolerance:
 def diagnosed(
     a: Hamiltonian, b: Hamiltonian, energies: Energies, tolerance: float, memory: int, names=("A", "B")
 ) -> list[str]:
-    """diagnose's hypotheses that turn one file's energy into the other's, both ways."""
-    if energies.fci_a and energies.fci_b:
+    """diagnose's hypotheses that turn one file's energy into the other's, both ways (full-CI energies
+    up to ``DIAGNOSE_FCI_DETERMINANTS`` determinants, determinant energies beyond)."""
+    small = max(_space(a), _space(b)) <= DIAGNOSE_FCI_DETERMINANTS
+    if energies.fci_a and energies.fci_b and small:
         method, computed = "fci", (energies.fci_a[0], energies.fci_b[0])
     elif energies.hf_a is not None and energies.hf_b is not None:
         method, computed = "hf", (None, None)  # diagnose's determinant is the lowest orbitals; let it compute

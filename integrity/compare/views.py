@@ -160,7 +160,8 @@ def largest_deviation(first: OrbitalView, second: OrbitalView) -> float:
     """Largest |element difference| over all blocks (inf when a value is not finite)."""
     worst = 0.0
     for a, b in zip(first.blocks, second.blocks, strict=True):
-        difference = np.abs(b.array - a.array)
+        difference = np.subtract(b.array, a.array)
+        difference = np.abs(difference, out=difference) if difference.dtype.kind == "f" else np.abs(difference)
         if difference.size:
             peak = float(np.max(difference))
             worst = max(worst, peak) if np.isfinite(peak) else np.inf

@@ -15,7 +15,9 @@ unrestricted file also h^a <-> h^b, aa <-> bb, and ab'[p,q,r,s] = ab[r,s,p,q]
 (chemist; physicist ab'[p,q,r,s] = ab[q,p,s,r]); in a spin-orbital file the
 order itself must send every alpha spin orbital to a beta one and back.
 
-Irreps and reference occupations follow the orbitals; energies do not change.
+Irreps and reference occupations follow the orbitals (an ``hf`` reference
+without an occupation, meaning the lowest orbitals, gets the one it meant);
+energies do not change.
 
 >>> import numpy as np
 >>> from integrity.model.hamiltonian import Hamiltonian, Orbitals, Electrons, TwoElectron
@@ -36,6 +38,7 @@ import numpy as np
 
 from integrity.convert.bitwise import native
 from integrity.convert.history import step_entry
+from integrity.energies.meanfield import reference_occupation
 from integrity.errors import FieldError, RefusedError
 from integrity.model.fingerprint import fingerprint
 from integrity.model.hamiltonian import Electrons, Hamiltonian, TwoElectron
@@ -102,13 +105,13 @@ def slot_sets(basis: str, notation: str, block: int) -> tuple[int, int, int, int
 
 def permuted(array: np.ndarray, orders, signs) -> np.ndarray:
     """``s_a s_b ... array[π_a(a), π_b(b), ...]``: one order and sign vector per axis."""
-    out = array[np.ix_(*orders)]
+    out = np.ascontiguousarray(array[np.ix_(*orders)])  # a fresh array: the signs may go in place
     for axis, sign in enumerate(signs):
         if np.any(sign < 0):
             shape = [1] * array.ndim
             shape[axis] = len(sign)
-            out = out * sign.reshape(shape).astype(out.real.dtype)
-    return np.ascontiguousarray(out)
+            out *= sign.reshape(shape).astype(out.real.dtype)
+    return out
 
 
 def _exchanged_arrays(ham: Hamiltonian):
@@ -164,11 +167,14 @@ def _occupation(occupation, exchange: bool, inverses):
 
 
 def _references(ham: Hamiltonian, exchange: bool, inverses):
+    """References with occupations relabelled; an hf reference without one (the lowest orbitals) gets
+    the occupation it meant, since the lowest orbitals after the relabelling are other orbitals."""
     out = []
     for ref in ham.references:
         changes = {}
-        if ref.occupation is not None:
-            changes["occupation"] = _occupation(ref.occupation, exchange, inverses)
+        occupation = reference_occupation(ham, ref) if ref.method == "hf" else ref.occupation
+        if occupation is not None:
+            changes["occupation"] = _occupation(occupation, exchange, inverses)
         if exchange and ref.electrons is not None:
             changes["electrons"] = Electrons(ref.electrons.beta, ref.electrons.alpha)
         out.append(dataclasses.replace(ref, **changes) if changes else ref)
