@@ -133,7 +133,7 @@ class Reference:
 
 @dataclass(frozen=True, eq=False)
 class Hamiltonian:
-    """Everything a Hamiltonian file holds (see ``../shared/design/format.md``).
+    """Everything a Hamiltonian file holds (see ``docs/format.md``).
 
     ``one_electron``: (n, n), or (2, n, n) as [alpha, beta] when unrestricted.
     ``two_electron.array``: by storage, see :func:`integrity.model.indexing.two_electron_shape`.
