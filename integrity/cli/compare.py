@@ -10,7 +10,7 @@ from integrity.cli.render import as_json, comparison_text
 ACCEPTABLE = ("identical", "tolerance", "relabel", "constant", "spectrum")
 
 
-@click.command(short_help="Compare two files: identical, relabelled, shifted, rotated or different.")
+@click.command(short_help="Are two files the same Hamiltonian?")
 @click.argument("first", metavar="A", type=click.Path(exists=True, dir_okay=False))
 @click.argument("second", metavar="B", type=click.Path(exists=True, dir_okay=False))
 @click.option(

@@ -7,6 +7,7 @@ Text is one line per fact; a JSON document is ``json.dumps`` of a result's
 from __future__ import annotations
 
 import json
+from pathlib import Path
 
 
 def as_json(document) -> str:
@@ -186,8 +187,6 @@ def _yes_no(holds) -> str:
 
 def relabel_command(comparison, out_name: str | None = None) -> str:
     """The ``integrity convert`` call that makes A look like B, from a comparison's relabelling."""
-    from pathlib import Path
-
     relabelling, side = comparison.relabelling, comparison.a
     path = Path(side.label)
     out_name = out_name or f"{path.stem}_relabelled{path.suffix or '.h5'}"

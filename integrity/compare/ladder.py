@@ -128,21 +128,13 @@ def _relabelling(view_a, view_b, counts_a, counts_b, basis, layout, tolerance, n
             spin_layout=layout,
         )
         fits = (counts_b == swapped) if exchange else (counts_b == counts_a)
-        note = (
-            ""
-            if search.used_irreps or view_a.irreps is None or view_b.irreps is None
-            else ("; the irreps do not follow the orbitals (found without them)")
-        )
-        return relabelling, fits, f"largest difference after it {found.largest:.2g}{note}"
+        text = f"largest difference after it {found.largest:.2g}"
+        if not search.used_irreps and view_a.irreps is not None and view_b.irreps is not None:
+            text += "; the irreps do not follow the orbitals (found without them)"
+        return relabelling, fits, text
     if stopped:
-        return (
-            None,
-            False,
-            (
-                f"no relabelling found; the search stopped after {searched} assignments (--search-limit), so one "
-                "may still exist"
-            ),
-        )
+        text = f"no relabelling found; the search stopped after {searched} assignments (--search-limit), so one "
+        return None, False, text + "may still exist"
     return None, False, "no order and signs map A onto B: every candidate the invariants allow was tried"
 
 
@@ -164,8 +156,9 @@ def _structure_reasons(blocks, tolerance, generic: bool) -> list[str]:
         return []
     if total <= FEW_ELEMENTS and len(differing) == 1:
         block = differing[0]
+        where = "the first that is not finite" if block.largest is None else "the largest"
         return [
-            f"only {total} element(s) of {block.block} differ beyond {tolerance:g}, the largest at "
+            f"only {total} element(s) of {block.block} differ beyond {tolerance:g}, {where} at "
             f"{list(block.where)}: a damaged or edited value (and its symmetric partners)"
         ]
     if not generic:
