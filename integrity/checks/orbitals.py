@@ -162,7 +162,11 @@ def _made_from_spatial_orbitals(ham) -> bool:
 def check_spin_coupling(ham, ctx) -> Result:
     """Largest element coupling alpha and beta spin orbitals (spin-orbital files); warns: S_z is then not conserved."""
     if ham.basis != "spin-orbital":
-        return skipped(f"{ham.basis} orbitals cannot couple alpha and beta")
+        return passed(
+            f"{ham.basis} orbitals hold no element that couples alpha and beta: S_z is conserved by construction",
+            value=0.0,
+            limit=ctx.limit,
+        )
     layout = ham.orbitals.spin_layout
     value, where = spin_coupling(ham, layout)
     if value <= ctx.limit:

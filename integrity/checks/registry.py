@@ -180,7 +180,7 @@ class CheckSpec:
 
     id: str
     function: Callable
-    limit: float
+    limit: float | None
     summary: str
     needs_hamiltonian: bool = True
     #: skipped when the arrays hold NaN or infinities (a NaN compares false with every limit)
@@ -194,9 +194,11 @@ class CheckSpec:
 
     @property
     def rule(self) -> str:
-        """The comparison in words, e.g. ``fails when value > 1e-10``."""
+        """The comparison in words, e.g. ``fails when value > 1e-10``; a check without a limit counts problems."""
         verb = "fails" if self.severity == "fail" else "warns"
         sign = ">" if self.fails_when == "above" else "<"
+        if self.limit is None:
+            return f"{verb} when value {sign} 0, a count of problems"
         return f"{verb} when value {sign} {self.limit:g}"
 
     def limit_problem(self, limit) -> str | None:
@@ -226,8 +228,8 @@ def register(
 ):
     """Register a check function under ``check_id`` with its default limit and direction.
 
-    A check registered without a limit counts problems: it fails when the count
-    exceeds 0, and ``--tolerance`` cannot change that.
+    A check registered without a limit (None) counts problems: it fails when the
+    count exceeds 0, and ``--tolerance`` cannot change that.
     """
     if fails_when not in DIRECTIONS:
         raise ValueError(f"fails_when must be one of {DIRECTIONS}, got {fails_when!r}")
@@ -239,7 +241,7 @@ def register(
         REGISTRY[check_id] = CheckSpec(
             check_id,
             function,
-            0.0 if limit is None else limit,
+            limit,
             summary,
             needs_hamiltonian,
             needs_finite,

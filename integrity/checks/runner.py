@@ -70,7 +70,7 @@ class CheckOptions:
             raise FieldError("engine", f"{self.engine!r} is not an engine; expected one of {ENGINES}")
         return [i for i in known if (self.only is None or i in self.only) and i not in self.without]
 
-    def limit(self, check_id: str) -> float:
+    def limit(self, check_id: str) -> float | None:
         return self.tolerances.get(check_id, REGISTRY[check_id].limit)
 
 

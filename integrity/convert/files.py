@@ -1,4 +1,5 @@
-"""``convert_file``: read a file, convert it, write another (HDF5 or JSON by extension).
+"""``convert_file`` and ``reduce_file``: read a file, convert it (or cut an active space out of it),
+write another (HDF5 or JSON by extension).
 
 The input is never overwritten: an output that resolves to the input file
 (the same path, a symbolic link to it, or a hard link) is refused even with
@@ -28,6 +29,7 @@ from pathlib import Path
 
 from integrity.convert.history import dated, step_entry, with_history
 from integrity.convert.pipeline import ConversionResult, convert, planned_size
+from integrity.convert.reduce import reduce_active_space
 from integrity.errors import BudgetError, IntegrityError, RefusedError
 from integrity.io import DEFAULT_MEMORY, container_of, format_bytes, load, save
 from integrity.model.fingerprint import fingerprint
@@ -62,6 +64,67 @@ def convert_file(
     the conversion is refused with the figures, before anything is computed.
     ``on_plan`` is called with :func:`planned_size`'s figures once they are known.
     """
+
+    def transform(ham):
+        require_budget(planned_size(ham, **steps), memory, out_path, on_plan)
+        return convert(ham, date=date, **steps)
+
+    return transform_file(in_path, out_path, transform, overwrite=overwrite, memory=memory, date=date)
+
+
+def require_budget(size: dict, memory: int, out_path, on_plan=None) -> None:
+    """Refuse a conversion whose input and output arrays together exceed ``memory``, with the figures;
+    otherwise tell ``on_plan`` the sizes."""
+    needed = size["input"] + size["output"]
+    if needed > memory:
+        ratio = ""
+        if size["input"]:
+            ratio = f" ({size['output'] / size['input']:.3g}x the input's {format_bytes(size['input'])})"
+        raise BudgetError(
+            None,
+            f"the converted arrays hold {format_bytes(size['output'])}{ratio}; with the input that is "
+            f"{format_bytes(needed)} in memory, beyond the budget of {format_bytes(memory)} (--memory)",
+            str(out_path),
+            needed=needed,
+            budget=memory,
+        )
+    if on_plan is not None:
+        on_plan(size)
+
+
+def reduce_file(
+    in_path,
+    out_path,
+    *,
+    frozen=(),
+    active=None,
+    overwrite: bool = False,
+    memory: int = DEFAULT_MEMORY,
+    date: str | None = None,
+    **options,
+) -> ConversionResult:
+    """Cut an active space out of the file ``in_path`` into ``out_path`` (see :mod:`integrity.convert.reduce`);
+    ``options`` are :func:`reduce_active_space`'s keywords."""
+    return transform_file(
+        in_path,
+        out_path,
+        lambda ham: reduce_active_space(ham, frozen, active, date=date, memory=memory, **options),
+        overwrite=overwrite,
+        memory=memory,
+        date=date,
+    )
+
+
+def transform_file(
+    in_path, out_path, transform, *, overwrite: bool = False, memory: int = DEFAULT_MEMORY, date: str | None = None
+) -> ConversionResult:
+    """Read ``in_path``, apply ``transform`` (Hamiltonian -> ConversionResult), write ``out_path``.
+
+    The guards of every command that writes a new file from an old one: the
+    output is never the input (not even with ``overwrite``), an existing output
+    is kept unless ``overwrite``, the write is atomic, and a container change
+    is one more history entry.
+    """
     in_path, out_path = Path(in_path), Path(out_path)
     if _same_file(in_path, out_path):
         raise RefusedError(
@@ -73,28 +136,7 @@ def convert_file(
     source, target = container_of(in_path), container_of(out_path)
     ham = load(in_path, memory=memory)
     try:
-        size = planned_size(ham, **steps)
-    except IntegrityError as err:
-        raise err.in_file(in_path) from None
-    needed = size["input"] + size["output"]
-    if needed > memory:
-        ratio = (
-            f" ({size['output'] / size['input']:.3g}x the input's {format_bytes(size['input'])})"
-            if size["input"]
-            else ""
-        )
-        raise BudgetError(
-            None,
-            f"the converted arrays hold {format_bytes(size['output'])}{ratio}; with the input that is "
-            f"{format_bytes(needed)} in memory, beyond the budget of {format_bytes(memory)} (--memory)",
-            str(out_path),
-            needed=needed,
-            budget=memory,
-        )
-    if on_plan is not None:
-        on_plan(size)
-    try:
-        result = convert(ham, date=date, **steps)
+        result = transform(ham)
     except IntegrityError as err:
         raise err.in_file(in_path) from None
     written, entries = result.hamiltonian, list(result.steps)

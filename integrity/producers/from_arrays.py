@@ -119,7 +119,17 @@ def wrap_arrays(
                 f"{two.ndim} axes fit no storage of a {basis} file ({_shape_text(one, two)})",
                 str(path),
             )
-    for field, reason in shape_problems(basis, count, storage, notation, one.shape, one.dtype, two.shape, two.dtype):
+    problems = shape_problems(
+        basis=basis,
+        count=count,
+        storage=storage,
+        notation=notation,
+        one_shape=one.shape,
+        one_dtype=one.dtype,
+        two_shape=two.shape,
+        two_dtype=two.dtype,
+    )
+    for field, reason in problems:
         raise FieldError(field, f"{reason} ({_shape_text(one, two)})", str(path))
     per_spin = count // 2 if basis == "spin-orbital" else count
     for name, electrons in (("alpha", alpha), ("beta", beta)):

@@ -57,6 +57,8 @@ def _one_error_line(result, *words):
         ["convert", LIH, "out.json", "--tolerance", "inf"],
         ["convert", LIH, "out.json", "--tolerance", "-1"],
         ["convert", LIH, "out.json", "--memory", "inf"],
+        ["compare", LIH, LIH, "--tolerance", "inf"],
+        ["compare", LIH, LIH, "--tolerance", "0"],
     ],
     ids=lambda args: " ".join(args[2:]) + f" ({args[0]})",
 )
