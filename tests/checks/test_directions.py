@@ -79,7 +79,7 @@ def _damaged(ham, damage: str, rng):
     two = ham.two_electron
     eri = np.array(two.array)
     if damage == "element":
-        index = tuple(rng.integers(0, ham.n, size=eri.ndim))
+        index = tuple(int(rng.integers(0, extent)) for extent in eri.shape)
         eri[index] += rng.choice([1e-12, 1e-9, 1e-6, 1e-3, 0.3])
     elif damage == "notation":
         eri = np.ascontiguousarray(np.swapaxes(eri, -3, -2))  # physicist read as chemist
@@ -109,6 +109,7 @@ def _with_references(ham):
     return ham.replace(references=(Reference("hf", "hf", hf), Reference("fci", "fci", fci)))
 
 
+@pytest.mark.slow
 @settings(max_examples=25, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(
     basis=st.sampled_from(["restricted", "unrestricted"]),
