@@ -123,7 +123,7 @@ class ResultCache:
 
     def put(self, file_digest: str, settings: str, path: str, outcome: dict[str, Any]) -> None:
         """Store an outcome (replacing an entry with the same key)."""
-        text = json.dumps(outcome, sort_keys=True)
+        text = json.dumps(outcome)  # key order kept: a warm report is the cold one, byte for byte
         self._guard(self._insert, file_digest, settings, path, text)
 
     def _insert(self, file_digest, settings, path, text) -> None:

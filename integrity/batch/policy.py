@@ -170,6 +170,12 @@ def _unknown_check(name: str) -> str:
 def _problem_text(problem, table) -> str:
     if problem.rule == "additionalProperties":
         return "unknown key; " + _known_keys(problem.path)
+    if (
+        problem.path[:1] == ("tolerance",)
+        and len(problem.path) == 2
+        and isinstance(table["tolerance"].get(problem.path[1]), dict)
+    ):
+        return f'{problem.message}; a check id holds a dot, so quote it: "{problem.path[1]}.name" = 1e-8'
     return problem.message
 
 
@@ -231,6 +237,9 @@ class _Locator:
 
     def line_of(self, path: tuple, value=None) -> int | None:
         full = (*self.prefix, *(str(p) for p in path if not isinstance(p, int)))
+        below = [number for key, number in self.known.items() if key[: len(full)] == full]
+        if below and value is None:
+            return min(below)
         for cut in range(len(full), 0, -1):
             start = self.known.get(full[:cut])
             if start is None:

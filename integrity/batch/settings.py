@@ -1,7 +1,8 @@
 """The settings of a batch run: the policy's keys, overridden by what the command line gives.
 
 For every key the command line wins over the policy file, and the policy over
-the built-in default. ``--only`` and ``--without`` replace the policy's lists;
+the built-in default. The checks chosen are one setting: ``--only`` or
+``--without`` on the command line replaces both of the policy's lists;
 ``--tolerance`` replaces the policy's limit of the checks it names and keeps
 the others. A scheduler (a Dask cluster) and local worker processes are two
 ways to run: ``--jobs`` on the command line runs locally even when the policy
@@ -79,9 +80,10 @@ def settle(
     """Merge command-line values (None: not given) over ``policy``; see the module docstring."""
     if jobs is not None and scheduler is not None:
         raise FieldError("--jobs", "give --jobs (processes on this machine) or --scheduler (a Dask cluster), not both")
+    chosen_here = bool(only) or bool(without)
     options = CheckOptions(
-        only=tuple(only) if only else policy.only,
-        without=tuple(without) if without else (policy.without or ()),
+        only=(tuple(only) or None) if chosen_here else policy.only,
+        without=tuple(without or ()) if chosen_here else (policy.without or ()),
         tolerances={**policy.tolerance, **(tolerance or {})},
         memory=_first(memory, policy.memory, DEFAULT_MEMORY),
         engine=_first(engine, policy.engine, "native"),
