@@ -80,7 +80,7 @@ class DaskCluster:
         except OSError as err:
             raise UnsupportedError("--scheduler", f"cannot reach the Dask scheduler at {address} ({err})") from None
         self.workers = max(1, len(self.client.scheduler_info().get("workers", {})))
-        self.completed = distributed.as_completed(with_results=False)
+        self.completed = distributed.as_completed(loop=self.client.loop, with_results=False)
         self.running: dict[str, tuple] = {}
 
     def submit(self, job: Job) -> None:
