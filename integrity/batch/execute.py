@@ -82,7 +82,7 @@ class LocalProcesses:
         self.timeout = timeout
         self.task = task
         context = multiprocessing.get_context("forkserver")
-        context.set_forkserver_preload(["integrity.batch.job"])
+        context.set_forkserver_preload(["integrity.batch.preload"])
         with _threads_per_worker(workers):
             self.pool = pebble.ProcessPool(max_workers=workers, context=context, initializer=_worker_start)
             self._start_server(context)

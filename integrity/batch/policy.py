@@ -95,7 +95,7 @@ def load_policy(path) -> Policy:
     """Read and validate a policy file (``integrity.toml``, or a ``pyproject.toml``'s table)."""
     from integrity.checks.registry import check_ids
 
-    path = Path(path)
+    path = Path(_shown(path))
     text = _read_text(path)
     try:
         document = tomllib.loads(text)
@@ -170,12 +170,10 @@ def _unknown_check(name: str) -> str:
 def _problem_text(problem, table) -> str:
     if problem.rule == "additionalProperties":
         return "unknown key; " + _known_keys(problem.path)
-    if (
-        problem.path[:1] == ("tolerance",)
-        and len(problem.path) == 2
-        and isinstance(table["tolerance"].get(problem.path[1]), dict)
-    ):
-        return f'{problem.message}; a check id holds a dot, so quote it: "{problem.path[1]}.name" = 1e-8'
+    nested = table.get("tolerance", {}).get(problem.path[1]) if problem.path[:1] == ("tolerance",) else None
+    if len(problem.path) == 2 and isinstance(nested, dict) and nested:
+        example = f"{problem.path[1]}.{next(iter(nested))}"
+        return f'{problem.message}; a check id holds a dot, so quote it: "{example}" = ...'
     return problem.message
 
 
@@ -315,9 +313,12 @@ def _render_key(path: tuple) -> str:
 
 def policy_source_text(policy: Policy) -> str | None:
     """How a report names the policy file: relative to the current folder when under it."""
-    if policy.source is None:
-        return None
-    source = Path(policy.source).resolve()
+    return None if policy.source is None else _shown(policy.source)
+
+
+def _shown(path) -> str:
+    """A path as messages write it: relative to the current folder when under it, else absolute."""
+    source = Path(path).resolve()
     try:
         return str(source.relative_to(Path.cwd().resolve()))
     except ValueError:

@@ -97,7 +97,7 @@ def test_a_malformed_policy_names_file_line_and_key(in_tmp, text, line, key, wor
     with pytest.raises(FieldError) as caught:
         load_policy(path)
     message = str(caught.value)
-    assert message.startswith(f"{path}: line {line}: {key}: "), message
+    assert message.startswith(f"{path.name}: line {line}: {key}: "), message
     assert words in message
 
 
