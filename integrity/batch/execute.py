@@ -219,6 +219,7 @@ class BatchRun:
         self.task = task
         self.executor = executor
         self.cache_hits = 0
+        self._started = None
         self._buffer: dict[int, Entry] = {}
         self._done = 0
         self._failures = 0
@@ -239,39 +240,43 @@ class BatchRun:
         cache = ResultCache(settings.cache, warn=self.warn) if settings.cache else None
         options, cwd = self.worker_options(), os.getcwd()
         key = settings_digest(settings_of(options, settings.foreign))
-        to_judge: list[Job] = []
+        jobs: list[Job] = []
         for index, path in enumerate(self.files):
             reason = settings.files.passed_over(path)
-            if reason is not None:
-                self._finish(index, PassedOver(path, reason))
-                continue
-            job = Job(index, path, cwd, options, settings.foreign, digest=cache is not None)
-            stored = self._lookup(cache, job, key) if cache is not None else None
-            if stored is not None:
-                self._finish(index, stored)
+            if reason is None:
+                jobs.append(Job(index, path, cwd, options, settings.foreign, digest=cache is not None))
             else:
-                to_judge.append(job)
-        executor = self.executor
-        if to_judge and executor is None:
-            executor = make_executor(settings, len(to_judge), task=self.task)
+                self._finish(index, PassedOver(path, reason))
+        self._started = None
         try:
-            yield from self._drive(executor, to_judge, cache, key)
+            yield from self._drive(jobs, cache, key)
         except BaseException:
-            if executor is not None and executor is not self.executor:
-                executor.close(cancel=True)
-                executor = None
+            self._close(cancel=True)
             raise
         finally:
-            if executor is not None and executor is not self.executor:
-                executor.close()
+            self._close()
             if cache is not None:
                 self.cache_hits = cache.hits
                 cache.close()
 
-    def _drive(self, executor, jobs: list[Job], cache, key: str) -> Iterator[Entry]:
+    def _executor_for(self, remaining: int):
+        """The executor, started at the first file the cache does not answer."""
+        if self.executor is not None:
+            return self.executor
+        if self._started is None:
+            self._started = make_executor(self.settings, remaining, task=self.task)
+        return self._started
+
+    def _close(self, cancel: bool = False) -> None:
+        started, self._started = self._started, None
+        if started is not None:
+            started.close(cancel=cancel)
+
+    def _drive(self, jobs: list[Job], cache, key: str) -> Iterator[Entry]:
+        """Submit, wait, store and yield in input order; cache lookups interleave with judging."""
         pending = deque(jobs)
         submitted: dict[int, Job] = {}
-        queue_length = QUEUE_PER_WORKER * getattr(executor, "workers", 1)
+        executor = None
         next_out = 0
         while True:
             while next_out in self._buffer:
@@ -279,10 +284,19 @@ class BatchRun:
                 next_out += 1
             if next_out >= len(self.files):
                 return
+            queue_length = QUEUE_PER_WORKER * getattr(executor, "workers", 1)
             while pending and len(submitted) < queue_length and pending[0].index < next_out + REORDER_WINDOW:
                 job = pending.popleft()
+                stored = self._lookup(cache, job, key) if cache is not None else None
+                if stored is not None:
+                    self._finish(job.index, stored)
+                    continue
+                executor = self._executor_for(len(pending) + 1)
+                queue_length = QUEUE_PER_WORKER * executor.workers
                 executor.submit(job)
                 submitted[job.index] = job
+            if not submitted:
+                continue  # answered from the cache: yield, then look further
             for index, outcome in executor.wait():
                 job = submitted.pop(index)
                 digest = outcome.get("digest")

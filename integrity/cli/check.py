@@ -174,11 +174,13 @@ def check(
         if status is not None:
             counts[status] += 1
 
+    verdicts = iter(run)
     try:
-        for entry in run:
+        for entry in verdicts:
             take(entry)
     except KeyboardInterrupt:
         interrupted = True
+        verdicts.close()  # stops the workers
         for entry in run.finished_early():
             take(entry)
     finally:
