@@ -18,6 +18,7 @@ PACKAGES = [
     "integrity.convert",
     "integrity.producers",
     "integrity.testing",
+    "integrity.batch",
     "integrity.cli",
 ]
 
