@@ -16,7 +16,7 @@ True
 >>> declared_format(folder / "cut.json")
 Traceback (most recent call last):
 ...
-integrity.errors.ContainerError: .../cut.json: not JSON (line 1, ...); the marker cannot be read
+integrity.errors.ContainerError: ...cut.json: not JSON (line 1, ...); the marker cannot be read
 """
 
 from __future__ import annotations
