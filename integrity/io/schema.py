@@ -31,6 +31,7 @@ SCHEMA_FILES = {
     "hamiltonian": "hamiltonian.schema.json",
     "report": "report.schema.json",
     "policy": "policy.schema.json",
+    "comparison": "comparison.schema.json",
 }
 _BULK_THRESHOLD = 256
 _short = reprlib.Repr()
