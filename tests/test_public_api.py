@@ -19,6 +19,7 @@ PACKAGES = [
     "integrity.convert",
     "integrity.producers",
     "integrity.testing",
+    "integrity.batch",
     "integrity.cli",
 ]
 

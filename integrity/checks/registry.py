@@ -65,6 +65,13 @@ class Location:
             out["block"] = self.block
         return out
 
+    @classmethod
+    def from_dict(cls, data: dict[str, Any]) -> Location:
+        """The Location ``as_dict`` described (``from_dict(loc.as_dict()) == loc``)."""
+        if "field" in data:
+            return cls(field=data["field"])
+        return cls(array=data["array"], index=tuple(int(i) for i in data["index"]), block=data.get("block"))
+
     def __str__(self) -> str:
         if self.field is not None:
             return self.field
@@ -111,6 +118,20 @@ class Result:
         if self.details:
             out["details"] = self.details
         return out
+
+    @classmethod
+    def from_dict(cls, data: dict[str, Any]) -> Result:
+        """The Result ``as_dict`` described (its ``as_dict()`` is ``data`` again)."""
+        where = data.get("where")
+        return cls(
+            id=data["id"],
+            status=data["status"],
+            message=data["message"],
+            value=data.get("value"),
+            limit=data.get("limit"),
+            where=None if where is None else Location.from_dict(where),
+            details=dict(data.get("details") or {}),
+        )
 
 
 def figure(value: float) -> str:

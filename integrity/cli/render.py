@@ -109,8 +109,26 @@ def file_report_text(report, strict: bool = False) -> str:
 
 
 def batch_text(batch) -> str:
-    """Every file's report, in input order."""
-    return "\n".join(file_report_text(report, batch.strict) for report in batch.files)
+    """Every file's report, in input order, then the files passed over."""
+    lines = [file_report_text(report, batch.strict) for report in batch.files]
+    return "\n".join(lines + [passed_over_text(entry) for entry in batch.passed_over])
+
+
+def passed_over_text(entry) -> str:
+    """A file a run did not judge, and why."""
+    return f"{entry.path}: passed over: {entry.reason}"
+
+
+def batch_entry_text(entry, strict: bool = False) -> str:
+    """One entry of a batch run as it finishes: a file's report, or a file passed over."""
+    if hasattr(entry, "reason"):
+        return passed_over_text(entry)
+    return file_report_text(entry, strict)
+
+
+def progress_text(failures: int, path: str) -> str:
+    """What the progress line shows after the bar and the count: failures so far and the last file."""
+    return f"{failures} not passed  {path}"
 
 
 def check_list_text(specs) -> str:

@@ -30,6 +30,7 @@ from referencing import Registry, Resource
 SCHEMA_FILES = {
     "hamiltonian": "hamiltonian.schema.json",
     "report": "report.schema.json",
+    "policy": "policy.schema.json",
     "comparison": "comparison.schema.json",
 }
 _BULK_THRESHOLD = 256
