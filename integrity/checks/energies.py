@@ -7,7 +7,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from integrity.checks.registry import Result, at_field, failed, passed, register, skipped
+from integrity.checks.registry import Result, at_field, failed, passed, register, skipped, warned
 from integrity.energies.diagnose import likely_causes
 from integrity.energies.meanfield import determinant_energy, reference_occupation
 from integrity.energies.solve import solve_reference
@@ -75,7 +75,15 @@ def _engines(ctx):
 
 
 def _solve_one(ham, ref, engine, ctx):
-    result = solve_reference(ham, ref, engine=engine, memory=ctx.memory)
+    result = solve_reference(
+        ham,
+        ref,
+        engine=engine,
+        memory=ctx.memory,
+        tol=ctx.convergence,
+        max_iter=ctx.max_iterations,
+        progress=ctx.progress if engine == "native" else None,
+    )
     state = result.roots[0]
     return {
         "engine": engine,
@@ -133,6 +141,20 @@ def check_fci(ham, ctx) -> Result:
             problems.append((1.0, ref, first, difference, tolerance, "spin"))
     details = {"references": rows}
     worst_value = max(abs(r["difference"]) for r in rows)
+    unconverged = [(row, s) for row in rows for s in row["solutions"] if not s["converged"]]
+    if unconverged:  # the energy is not the full-CI one: neither a pass nor a failure can be claimed
+        row, solution = max(unconverged, key=lambda item: item[1]["residual"])
+        iterations = "" if solution["iterations"] is None else f" after {solution['iterations']} iterations"
+        return warned(
+            f"reference {row['label']!r}: full CI ({solution['engine']}) did not converge: residual norm "
+            f"{solution['residual']:.2e}{iterations}, energy {solution['energy']:.10f} "
+            f"(difference {row['difference']:.3g}, limit {row['tolerance']:.3g}); "
+            "raise --max-iterations or loosen --convergence",
+            value=abs(row["difference"]),
+            limit=row["tolerance"],
+            where=at_field(f"references[{row['label']}]"),
+            details=details,
+        )
     if not problems:
         engines = " and ".join(_engines(ctx))
         return passed(

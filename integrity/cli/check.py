@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from dataclasses import replace
+
 import click
 
 from integrity.cli.options import (
@@ -11,7 +13,9 @@ from integrity.cli.options import (
     guarded,
     memory_option,
     parse_tolerances,
+    solver_options,
 )
+from integrity.cli.progress import check_status
 from integrity.cli.render import as_json, batch_text, check_list_text
 
 
@@ -40,6 +44,8 @@ def _list_checks(ctx, param, value):
 @engine_option("Full-CI engine for energy.fci; both: a disagreement fails.")
 @memory_option("Memory budget; larger arrays are checked block by block.")
 @click.option("--strict", is_flag=True, help="A warning fails the file.")
+@solver_options
+@click.option("--quiet", is_flag=True, help="No progress line on the terminal.")
 @click.option(
     "--list",
     is_flag=True,
@@ -49,7 +55,7 @@ def _list_checks(ctx, param, value):
     help="List the check ids with their limits and exit.",
 )
 @guarded
-def check(paths, output_format, only, without, tolerance, engine, memory, strict):
+def check(paths, output_format, only, without, tolerance, engine, memory, strict, max_iterations, convergence, quiet):
     """Check Hamiltonian files; folders are searched for *.h5, *.hdf5 and *.json.
 
     Prints one line per passing file and, for a failing file, one line per
@@ -74,8 +80,17 @@ def check(paths, output_format, only, without, tolerance, engine, memory, strict
         memory=memory,
         engine=engine,
         strict=strict,
+        convergence=convergence,
+        max_iterations=max_iterations,
     )
     options.chosen()  # an unknown id is refused before any file is read
-    batch = BatchReport(check_paths(paths, options), strict=strict)
+    status = check_status(quiet)
+    if status is not None:
+        options = replace(options, progress=status.check)
+    try:
+        batch = BatchReport(check_paths(paths, options), strict=strict)
+    finally:
+        if status is not None:
+            status.close()
     click.echo(as_json(batch.as_dict()) if output_format == "json" else batch_text(batch))
     raise SystemExit(batch.exit_status)

@@ -86,6 +86,22 @@ def solve_text(path, results) -> str:
     return "\n".join(lines)
 
 
+def progress_text(update) -> str:
+    """One status line of a running full-CI solve (a :class:`~integrity.solver.SolveProgress`)."""
+    energies = " ".join(f"{e:.8f}" for e in update.energies[:3]) + (" ..." if len(update.energies) > 3 else "")
+    residual = max(update.residual_norms) if update.residual_norms else 0.0
+    return (
+        f"full CI: iteration {update.iteration}, E = {energies}, residual {residual:.1e} "
+        f"(target {update.residual_tolerance:.1e}), {update.elapsed:.0f} s"
+    )
+
+
+def check_progress_text(path, check_id, update=None) -> str:
+    """Where a running check is: file, check and, inside a solve, its status."""
+    where = f"{path}: {check_id}"
+    return where if update is None else f"{where}: {progress_text(update)}"
+
+
 def conversion_text(result, out_path) -> str:
     """One line per conversion step, then the file written and its checksum."""
     lines = []

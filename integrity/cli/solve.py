@@ -4,7 +4,8 @@ from __future__ import annotations
 
 import click
 
-from integrity.cli.options import engine_option, format_option, guarded, memory_option
+from integrity.cli.options import engine_option, format_option, guarded, memory_option, solver_options
+from integrity.cli.progress import solve_status
 from integrity.cli.render import as_json, solve_text
 
 
@@ -20,10 +21,20 @@ from integrity.cli.render import as_json, solve_text
 @click.option("--irrep", type=click.IntRange(0, 7), help="Keep only states of this irrep (needs irreps).")
 @engine_option("Our solver, pyscf's, or both side by side.")
 @memory_option("Refuse a solve whose estimate exceeds this.")
+@solver_options
+@click.option("--quiet", is_flag=True, help="No progress line on the terminal while a long solve runs.")
 @format_option()
 @guarded
-def solve(file, roots, alpha, beta, electrons, two_s, irrep, engine, memory, output_format):
+def solve(
+    file, roots, alpha, beta, electrons, two_s, irrep, engine, memory, max_iterations, convergence, quiet, output_format
+):
     """Full-CI energies of the lowest states of FILE, with their 2S (and irrep).
+
+    \b
+    A solve that runs for more than a few seconds shows its Davidson
+    iteration, energies, residual norms and elapsed time on stderr when that
+    is a terminal (not with --quiet). A solve that does not converge within
+    --max-iterations says so beside its roots.
 
     \b
     Examples:
@@ -39,20 +50,28 @@ def solve(file, roots, alpha, beta, electrons, two_s, irrep, engine, memory, out
         raise click.UsageError("give --electrons or --alpha/--beta, not both")
     ham = load(file, memory=memory)
     engines = ("native", "pyscf") if engine == "both" else (engine,)
-    results = [
-        solve_hamiltonian(
-            ham,
-            alpha=alpha,
-            beta=beta,
-            electrons=electrons,
-            roots=roots,
-            two_s=two_s,
-            irrep=irrep,
-            engine=name,
-            memory=memory,
-        )
-        for name in engines
-    ]
+    status = solve_status(quiet)
+    try:
+        results = [
+            solve_hamiltonian(
+                ham,
+                alpha=alpha,
+                beta=beta,
+                electrons=electrons,
+                roots=roots,
+                two_s=two_s,
+                irrep=irrep,
+                engine=name,
+                memory=memory,
+                tol=convergence,
+                max_iter=max_iterations,
+                progress=None if status is None else status.solve,
+            )
+            for name in engines
+        ]
+    finally:
+        if status is not None:
+            status.close()
     if output_format == "json":
         click.echo(as_json({"path": file, "results": [r.as_dict() for r in results]}))
     else:

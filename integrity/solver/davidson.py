@@ -38,7 +38,7 @@ import numpy as np
 from integrity.errors import FieldError
 from integrity.solver.linalg import matmul
 
-__all__ = ["EXPLICIT_LIMIT", "DavidsonResult", "davidson", "default_max_space"]
+__all__ = ["EXPLICIT_LIMIT", "DavidsonResult", "Iteration", "davidson", "default_max_space"]
 
 EXPLICIT_LIMIT = 200
 """Spaces this small are diagonalised exactly (``matvec`` on every basis vector)."""
@@ -60,6 +60,17 @@ class DavidsonResult:
     iterations: int
     residual_norms: np.ndarray
     converged: np.ndarray
+
+
+@dataclass(frozen=True)
+class Iteration:
+    """What one Davidson iteration reached: Ritz values and residual norms of the roots sought."""
+
+    iteration: int
+    energies: np.ndarray
+    residual_norms: np.ndarray
+    tolerance: float
+    basis_size: int
 
 
 def default_max_space(nroots: int) -> int:
@@ -163,11 +174,15 @@ def davidson(
     project=None,
     dtype=np.float64,
     explicit_limit: int = EXPLICIT_LIMIT,
+    progress=None,
 ) -> DavidsonResult:
     """Lowest ``nroots`` eigenpairs of the Hermitian operator ``matvec``.
 
     Fewer roots come back when the (projected) space has fewer dimensions.
     ``guesses`` (columns) are tried before the unit-vector start.
+    ``progress(Iteration)`` is called after every iteration. After
+    ``max_iter`` iterations the current vectors come back with ``converged``
+    False where the residual is still above ``tol``.
     """
     diagonal = np.asarray(diagonal, dtype=np.float64)
     n = len(diagonal)
@@ -200,6 +215,8 @@ def davidson(
         residual = ritz_images - theta[:, None] * ritz
         norms = np.linalg.norm(residual, axis=1)
         converged = norms < tol
+        if progress is not None:
+            progress(Iteration(iterations, theta.copy(), norms.copy(), tol, size))
         if converged.all() or iterations >= max_iter:
             break
         corrections = []

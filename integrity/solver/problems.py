@@ -6,11 +6,12 @@ only the determinants of one irrep), the exact diagonal, ``matvec`` (sigma
 on that space) and, when they exist, a projector and the ``S^2`` matrix in a
 set of vectors. Vectors are flat arrays over the searched determinants.
 
-Two-string problems (restricted, unrestricted) keep the full ``c[Ia, Ib]``
-matrix inside sigma and address the irrep's determinants by flat index.
-For restricted orbitals with ``n_alpha == n_beta`` a spin-flip parity may be
-imposed: swapping alpha and beta strings maps ``c`` to ``c.T`` and a state of
-spin ``S`` to ``(-1)**S`` times itself, so ``(c + parity * c.T) / 2`` keeps only
+Two-string problems (restricted, unrestricted) hold a vector as the blocks
+``c[Ga, Gb]`` of the target irrep (:mod:`irrep_blocks`; one block ``c[Ia, Ib]``
+without a target) and sigma works on those blocks only. For restricted
+orbitals with ``n_alpha == n_beta`` a spin-flip parity may be imposed:
+swapping alpha and beta strings maps ``c`` to ``c.T`` and a state of spin
+``S`` to ``(-1)**S`` times itself, so ``(c + parity * c.T) / 2`` keeps only
 even (parity +1) or odd (parity -1) ``S``.
 """
 
@@ -23,6 +24,7 @@ import numpy as np
 
 from integrity.errors import FieldError
 from integrity.solver.integrals import pair_symmetric, spin_labels, sz_coupling
+from integrity.solver.irrep_blocks import block_layout
 from integrity.solver.memory import (
     MemoryEstimate,
     require_budget,
@@ -30,17 +32,17 @@ from integrity.solver.memory import (
     two_string_memory,
 )
 from integrity.solver.point_group import spin_orbital_irreps, string_irreps
+from integrity.solver.sigma_blocked import build_blocked, sigma_blocked
 from integrity.solver.sigma_spin_orbital import (
     build_spin_orbital,
     intermediate_strings,
     sigma_spin_orbital,
 )
-from integrity.solver.sigma_two_string import build_two_string, sigma_two_string
 from integrity.solver.slater_condon import determinant_list
 from integrity.solver.spin import (
     spin_orbital_raising,
+    spin_square_matrix_blocked,
     spin_square_matrix_spin_orbital,
-    spin_square_matrix_two_string,
 )
 from integrity.solver.strings import strings
 
@@ -69,6 +71,7 @@ class Problem:
     det_irreps: np.ndarray | None
     memory: MemoryEstimate
     notes: tuple
+    irrep: int | None = None
 
 
 def _irrep_selection(labels: np.ndarray, irrep):
@@ -93,7 +96,11 @@ def two_string_problem(
     nroots: int = 1,
     budget: int | None = None,
 ) -> Problem:
-    """Restricted or unrestricted problem in the sector ``(n_alpha, n_beta)``."""
+    """Restricted or unrestricted problem in the sector ``(n_alpha, n_beta)``.
+
+    With orbital ``irreps`` and a target ``irrep`` the vectors hold only the
+    blocks of that irrep (:mod:`irrep_blocks`) and sigma works on them alone.
+    """
     n = h1.shape[-1]
     if basis == "restricted":
         ha = hb = h1
@@ -101,62 +108,52 @@ def two_string_problem(
     else:
         ha, hb = h1[0], h1[1]
         gaa, gab, gbb = eri[0], eri[1], eri[2]
+    if parity is not None and (basis != "restricted" or n_alpha != n_beta):
+        raise FieldError("two_s", "spin-flip parity needs restricted orbitals and n_alpha == n_beta")
     dtype = np.result_type(h1, eri, np.float64)
-    packed = dtype == np.float64 and pair_symmetric(gab)
-    labels = None
-    if irreps is not None:
-        labels = (
-            string_irreps(strings(n, n_alpha), irreps)[:, None] ^ string_irreps(strings(n, n_beta), irreps)[None, :]
-        )
-    keep = None if labels is None else _irrep_selection(labels, irrep)
-    ndet_full = len(strings(n, n_alpha)) * len(strings(n, n_beta))
-    ndet = ndet_full if keep is None else len(keep)
+    layout = block_layout(n, n_alpha, n_beta, irreps, irrep)
     estimate = two_string_memory(
-        n, n_alpha, n_beta, nroots=nroots, itemsize=np.dtype(dtype).itemsize, packed=packed, ndet=ndet, budget=budget
+        n,
+        n_alpha,
+        n_beta,
+        nroots=nroots,
+        itemsize=np.dtype(dtype).itemsize,
+        packed=dtype == np.float64 and pair_symmetric(gab),
+        layout=layout,
     )
     if budget is not None:
         require_budget(estimate, budget)
-    op = build_two_string(ha, hb, gaa, gab, gbb, n_alpha, n_beta, block=estimate.block)
-    shape = op.shape
-    if parity is not None and (basis != "restricted" or n_alpha != n_beta):
-        raise FieldError("two_s", "spin-flip parity needs restricted orbitals and n_alpha == n_beta")
+    op = build_blocked(ha, hb, gaa, gab, gbb, layout)
 
-    def expand(v):
-        if keep is None:
-            return v.reshape(shape)
-        full = np.zeros(ndet_full, dtype=v.dtype)
-        full[keep] = v
-        return full.reshape(shape)
-
-    def compress(full):
-        return full.reshape(-1) if keep is None else full.reshape(-1)[keep]
-
-    def flip(full):
-        return 0.5 * (full + parity * full.T)
+    def flip(v):
+        return 0.5 * (v + parity * layout.transpose(v))
 
     def matvec(v):
-        out = sigma_two_string(op, expand(v))
-        return compress(flip(out) if parity is not None else out)
-
-    def project(v):
-        return compress(flip(expand(v)))
+        out = sigma_blocked(op, v)
+        return flip(out) if parity is not None else out
 
     def spin_square(rows):
-        return spin_square_matrix_two_string([expand(r) for r in rows], n, n_alpha, n_beta)
+        return spin_square_matrix_blocked(rows, layout)
 
+    labels = None
+    if irreps is not None and irrep is None:  # whole sector: label each determinant to report root irreps
+        labels = (
+            string_irreps(strings(n, n_alpha), irreps)[:, None] ^ string_irreps(strings(n, n_beta), irreps)[None, :]
+        ).ravel()
     notes = []
-    if keep is not None:
-        notes.append(f"space restricted to irrep {irrep}: {ndet} of {ndet_full} determinants")
+    if irrep is not None:
+        notes.append(f"space restricted to irrep {irrep}: {layout.size} of {layout.full_size} determinants")
     return Problem(
-        ndet=ndet,
+        ndet=layout.size,
         dtype=op.dtype,
-        diagonal=compress(op.diagonal),
+        diagonal=op.diagonal,
         matvec=matvec,
-        project=project if parity is not None else None,
+        project=flip if parity is not None else None,
         spin_square=spin_square if basis == "restricted" else None,
-        det_irreps=None if labels is None else compress(labels),
+        det_irreps=labels,
         memory=estimate,
         notes=tuple(notes),
+        irrep=None if irrep is None else int(irrep),
     )
 
 
