@@ -27,7 +27,9 @@ from integrity.solver.string_hamiltonian import string_hamiltonian_bytes
 __all__ = [
     "MemoryEstimate",
     "estimate_memory",
+    "fitting_space",
     "require_budget",
+    "smallest_space",
     "spin_orbital_memory",
     "two_string_memory",
     "with_roots",
@@ -48,12 +50,51 @@ SIGMA_VECTORS = 6
 """Vector-sized arrays alive during one sigma: input, result, the signed source copy (2), parity flip (2)."""
 
 
-def _davidson_bytes(ndet: int, nroots: int, itemsize: int) -> int:
-    return (2 * default_max_space(nroots) + 4 * nroots + 2) * ndet * itemsize
+def _davidson_bytes(ndet: int, nroots: int, itemsize: int, max_space: int | None = None) -> int:
+    space = max(default_max_space(nroots) if max_space is None else max_space, 2 * nroots)
+    return (2 * space + 4 * nroots + 2) * ndet * itemsize
 
 
-def _string_matrix_bytes(sizes, nent: int, itemsize: int) -> int:
-    return sum(string_hamiltonian_bytes(size, nent, itemsize) for size in sizes if size)
+def smallest_space(nroots: int) -> int:
+    """Fewest Davidson basis vectors a solve of ``nroots`` roots may shrink to under a tight budget.
+
+    >>> smallest_space(1), smallest_space(4)
+    (6, 8)
+    """
+    return max(6, 2 * nroots)
+
+
+def fitting_space(estimate: MemoryEstimate, nroots: int, itemsize: int, budget: int) -> int:
+    """The largest Davidson basis (from the default down to :func:`smallest_space`) that fits ``budget``.
+
+    Raises :class:`BudgetError` when even the smallest does not fit.
+    """
+    space = max(default_max_space(nroots), smallest_space(nroots))
+    while space > smallest_space(nroots) and with_roots(estimate, nroots, itemsize, space).total > budget:
+        space -= 1
+    require_budget(with_roots(estimate, nroots, itemsize, space), budget)
+    return space
+
+
+def _string_matrix_bytes(sizes, nent: int, itemsize: int) -> tuple[int, int]:
+    """Bytes of the blocks of one string Hamiltonian, and the build scratch of the largest one."""
+    sizes = [size for size in sizes if size]
+    held = [string_hamiltonian_bytes(size, nent, itemsize, scratch=False) for size in sizes]
+    full = [string_hamiltonian_bytes(size, nent, itemsize) for size in sizes]
+    return sum(held), max((f - h for f, h in zip(full, held, strict=True)), default=0)
+
+
+THREAD_BYTES = 16 * 2**20
+"""Per worker thread: its BLAS buffer and stack as they are touched (measured here at CAS(12,12) with irreps)."""
+
+RUNNING = ("davidson", "sigma vectors", "block scratch")
+"""Parts alive only while Davidson runs; ``build scratch`` is alive only before."""
+
+
+def _total(parts: dict) -> int:
+    """Peak bytes: what is held throughout, plus the larger of the build scratch and the running parts."""
+    held = sum(v for k, v in parts.items() if k not in RUNNING and k != "build scratch")
+    return int(held + max(parts.get("build scratch", 0), sum(parts.get(k, 0) for k in RUNNING)))
 
 
 def two_string_memory(
@@ -96,16 +137,18 @@ def two_string_memory(
             offsets += 8 * block.rows * nent_a * (width + block.cols % width)
             scratch = max(scratch, per_width * width)
     same = n_alpha == n_beta and set(rows) >= set(cols)
+    alpha_held, alpha_build = _string_matrix_bytes(rows.values(), nent_a, itemsize)
+    beta_held, beta_build = (0, 0) if same else _string_matrix_bytes(cols.values(), nent_b, itemsize)
     parts = {
         "davidson": _davidson_bytes(ndet, nroots, itemsize),
         "sigma vectors": SIGMA_VECTORS * ndet * itemsize,
         "tables": tables + gathers + alpha_side + offsets,
-        "string hamiltonians": _string_matrix_bytes(rows.values(), nent_a, itemsize)
-        + (0 if same else _string_matrix_bytes(cols.values(), nent_b, itemsize)),
+        "string hamiltonians": alpha_held + beta_held,
         "integrals": 4 * (npair * npair + n**4) * itemsize,
-        "block scratch": workers() * scratch,
+        "block scratch": workers() * (scratch + THREAD_BYTES),
+        "build scratch": max(alpha_build, beta_build),
     }
-    return MemoryEstimate(sum(parts.values()), parts, 0, ndet)
+    return MemoryEstimate(_total(parts), parts, 0, ndet)
 
 
 def _pair_counts(orbital_irreps, packed: bool) -> np.ndarray:
@@ -128,19 +171,19 @@ def spin_orbital_memory(
         "integrals": 4 * m**4 * itemsize,
         "sigma vectors": 4 * ndet * itemsize,
     }
-    return MemoryEstimate(sum(parts.values()), parts, block, ndet)
+    return MemoryEstimate(_total(parts), parts, block, ndet)
 
 
-def with_roots(estimate: MemoryEstimate, nroots: int, itemsize: int) -> MemoryEstimate:
-    """The same estimate with the Davidson part redone for ``nroots`` roots.
+def with_roots(estimate: MemoryEstimate, nroots: int, itemsize: int, max_space: int | None = None) -> MemoryEstimate:
+    """The same estimate with the Davidson part redone for ``nroots`` roots (and ``max_space`` vectors).
 
     >>> e = spin_orbital_memory(4, 2, 6, 6)
     >>> with_roots(e, 3, 8).total > e.total
     True
     """
     parts = dict(estimate.parts)
-    parts["davidson"] = _davidson_bytes(estimate.determinants, nroots, itemsize)
-    return MemoryEstimate(sum(parts.values()), parts, estimate.block, estimate.determinants)
+    parts["davidson"] = _davidson_bytes(estimate.determinants, nroots, itemsize, max_space)
+    return MemoryEstimate(_total(parts), parts, estimate.block, estimate.determinants)
 
 
 def require_budget(estimate: MemoryEstimate, budget: int) -> None:

@@ -27,6 +27,7 @@ from integrity.solver.integrals import pair_symmetric, spin_labels, sz_coupling
 from integrity.solver.irrep_blocks import block_layout
 from integrity.solver.memory import (
     MemoryEstimate,
+    fitting_space,
     require_budget,
     spin_orbital_memory,
     two_string_memory,
@@ -95,11 +96,14 @@ def two_string_problem(
     parity=None,
     nroots: int = 1,
     budget: int | None = None,
+    spin_square: bool | None = None,
 ) -> Problem:
     """Restricted or unrestricted problem in the sector ``(n_alpha, n_beta)``.
 
     With orbital ``irreps`` and a target ``irrep`` the vectors hold only the
     blocks of that irrep (:mod:`irrep_blocks`) and sigma works on them alone.
+    ``S^2`` is available for restricted orbitals, or when ``spin_square`` says
+    that alpha and beta orbitals of one index share a spatial function.
     """
     n = h1.shape[-1]
     if basis == "restricted":
@@ -122,7 +126,7 @@ def two_string_problem(
         layout=layout,
     )
     if budget is not None:
-        require_budget(estimate, budget)
+        fitting_space(estimate, nroots, np.dtype(dtype).itemsize, budget)
     op = build_blocked(ha, hb, gaa, gab, gbb, layout)
 
     def flip(v):
@@ -132,8 +136,11 @@ def two_string_problem(
         out = sigma_blocked(op, v)
         return flip(out) if parity is not None else out
 
-    def spin_square(rows):
+    def spin_square_matrix(rows):
         return spin_square_matrix_blocked(rows, layout)
+
+    if spin_square is None:
+        spin_square = basis == "restricted"
 
     labels = None
     if irreps is not None and irrep is None:  # whole sector: label each determinant to report root irreps
@@ -149,7 +156,7 @@ def two_string_problem(
         diagonal=op.diagonal,
         matvec=matvec,
         project=flip if parity is not None else None,
-        spin_square=spin_square if basis == "restricted" else None,
+        spin_square=spin_square_matrix if spin_square else None,
         det_irreps=labels,
         memory=estimate,
         notes=tuple(notes),

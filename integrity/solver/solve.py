@@ -43,8 +43,9 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from integrity.errors import FieldError
-from integrity.solver.integrals import require_arrays, sz_coupling
-from integrity.solver.memory import require_budget, with_roots
+from integrity.solver.davidson import default_max_space
+from integrity.solver.integrals import require_arrays, spin_blocks, sz_coupling
+from integrity.solver.memory import fitting_space, with_roots
 from integrity.solver.point_group import require_irreps
 from integrity.solver.problems import spin_orbital_problem, sz_conserved, two_string_problem
 from integrity.solver.pyscf_engine import pyscf_arrays, pyscf_states
@@ -357,7 +358,26 @@ def solve_arrays(
 
 def _solve_native(req: Request) -> FCIResult:
     notes = req.notes
-    if req.basis == "spin-orbital":
+    blocks = None
+    if req.basis == "spin-orbital" and req.conserving:
+        blocks, _ = spin_blocks(req.h1, req.eri, req.layout)
+    if blocks is not None:
+        # alpha and beta spin orbitals do not mix: the two-string (blocked) solver applies
+        ha, hb, gaa, gab, gbb = blocks
+        notes.append("alpha and beta blocks solved as two strings")
+        problem = two_string_problem(
+            "unrestricted",
+            np.array([ha, hb]),
+            np.array([gaa, gab, gbb]),
+            req.n_alpha,
+            req.n_beta,
+            irreps=req.irreps,
+            irrep=req.irrep,
+            nroots=req.need,
+            budget=req.memory,
+            spin_square=True,
+        )
+    elif req.basis == "spin-orbital":
         problem = spin_orbital_problem(
             req.h1,
             req.eri,
@@ -388,8 +408,12 @@ def _solve_native(req: Request) -> FCIResult:
         )
     notes.extend(problem.notes)
 
+    chosen = {}
+
     def require_memory(k):
-        require_budget(with_roots(problem.memory, k, problem.dtype.itemsize), req.memory)
+        chosen["space"] = fitting_space(problem.memory, k, problem.dtype.itemsize, req.memory)
+        chosen["estimate"] = with_roots(problem.memory, k, problem.dtype.itemsize, chosen["space"])
+        return chosen["space"]
 
     started = time.perf_counter()
 
@@ -414,6 +438,8 @@ def _solve_native(req: Request) -> FCIResult:
         require_memory=require_memory,
         progress=report if req.progress is not None else None,
     )
+    if chosen.get("space", 0) < default_max_space(states.roots_solved):
+        notes.append(f"Davidson basis held to {chosen['space']} vectors to fit the memory budget")
     if not states.converged.all():
         worst = float(np.max(states.residual_norms))
         notes.append(
@@ -431,7 +457,7 @@ def _solve_native(req: Request) -> FCIResult:
         spin_known=req.basis != "unrestricted",
         determinants=problem.ndet,
         iterations=states.iterations,
-        memory_estimate=problem.memory.total,
+        memory_estimate=chosen.get("estimate", problem.memory).total,
         checked=req.spin_target is not None,
     )
 

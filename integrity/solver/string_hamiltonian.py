@@ -35,9 +35,9 @@ DENSE_STRING_LIMIT = 6000
 _TERMS_PER_BLOCK = 4_000_000
 
 
-def string_hamiltonian_bytes(nstr: int, nent: int, itemsize: int) -> int:
-    """Bytes held by the matrix (dense, or CSR estimated from the table width) and scratch."""
-    scratch = min(_TERMS_PER_BLOCK, nstr * nent * nent) * (8 + 2 * itemsize) * 3
+def string_hamiltonian_bytes(nstr: int, nent: int, itemsize: int, scratch: bool = True) -> int:
+    """Bytes held by the matrix (dense, or CSR estimated from the table width), with the build scratch."""
+    scratch = min(_TERMS_PER_BLOCK, nstr * nent * nent) * (8 + 2 * itemsize) * 3 if scratch else 0
     if nstr <= DENSE_STRING_LIMIT:
         return nstr * nstr * itemsize + scratch
     return nstr * min(nstr, nent * nent) * (itemsize + 8) * 2 + scratch

@@ -131,8 +131,9 @@ def lowest_states(
 ) -> States:
     """The lowest ``need`` states of ``problem``, those of spin ``two_s / 2`` when given.
 
-    ``require_memory(k)`` is called before solving ``k`` roots (it may raise
-    :class:`BudgetError`). Raises :class:`FieldError` when the space holds fewer
+    ``require_memory(k)`` is called before solving ``k`` roots: it returns the
+    Davidson basis size to use (None: the default) or raises :class:`BudgetError`.
+    Raises :class:`FieldError` when the space holds fewer
     matching states than needed. ``progress`` receives every Davidson
     :class:`~integrity.solver.davidson.Iteration`, numbered across restarts;
     ``max_iter`` bounds the iterations of each Davidson run.
@@ -146,8 +147,7 @@ def lowest_states(
     guesses = None
     iterations = 0
     while True:
-        if require_memory is not None:
-            require_memory(k)
+        max_space = require_memory(k) if require_memory is not None else None
         counted = None
         if progress is not None:
             done = iterations
@@ -165,6 +165,7 @@ def lowest_states(
             project=problem.project,
             dtype=problem.dtype,
             progress=counted,
+            max_space=max_space,
         )
         iterations += result.iterations
         exhausted = len(result.energies) < k or k >= problem.ndet
