@@ -7,9 +7,8 @@ comes from :mod:`integrity.cli.render`.
 
 from __future__ import annotations
 
+import sys
 import time
-
-import click
 
 from integrity.cli.render import check_progress_text, progress_text
 
@@ -62,7 +61,7 @@ def _columns() -> int:
 
 
 def _terminal(quiet: bool) -> StatusLine | None:
-    stream = click.get_text_stream("stderr")
+    stream = sys.stderr
     if quiet or not stream.isatty():
         return None
     return StatusLine(stream)
