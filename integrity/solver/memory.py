@@ -84,9 +84,6 @@ def _string_matrix_bytes(sizes, nent: int, itemsize: int) -> tuple[int, int]:
     return sum(held), max((f - h for f, h in zip(full, held, strict=True)), default=0)
 
 
-THREAD_BYTES = 16 * 2**20
-"""Per worker thread: its BLAS buffer and stack as they are touched (measured here at CAS(12,12) with irreps)."""
-
 RUNNING = ("davidson", "sigma vectors", "block scratch")
 """Parts alive only while Davidson runs; ``build scratch`` is alive only before."""
 
@@ -145,7 +142,7 @@ def two_string_memory(
         "tables": tables + gathers + alpha_side + offsets,
         "string hamiltonians": alpha_held + beta_held,
         "integrals": 4 * (npair * npair + n**4) * itemsize,
-        "block scratch": workers() * (scratch + THREAD_BYTES),
+        "block scratch": workers() * scratch,
         "build scratch": max(alpha_build, beta_build),
     }
     return MemoryEstimate(_total(parts), parts, 0, ndet)
