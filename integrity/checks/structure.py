@@ -103,14 +103,14 @@ def check_shapes(ham, ctx) -> Result:
         one, two = declared["one_electron"], declared["two_electron"]
         problems = list(
             shape_problems(
-                basis,
-                count,
-                two_node.get("storage"),
-                two_node.get("notation"),
-                one["shape"],
-                _dtype(one["dtype"]),
-                two["shape"],
-                _dtype(two["dtype"]),
+                basis=basis,
+                count=count,
+                storage=two_node.get("storage"),
+                notation=two_node.get("notation"),
+                one_shape=one["shape"],
+                one_dtype=_dtype(one["dtype"]),
+                two_shape=two["shape"],
+                two_dtype=_dtype(two["dtype"]),
             )
         )
         if doc.container == "json":
@@ -120,14 +120,14 @@ def check_shapes(ham, ctx) -> Result:
         two_electron = ham.two_electron
         problems = list(
             shape_problems(
-                basis,
-                count,
-                two_electron.storage,
-                two_electron.notation,
-                ham.one_electron.shape,
-                ham.one_electron.dtype,
-                two_electron.array.shape,
-                two_electron.array.dtype,
+                basis=basis,
+                count=count,
+                storage=two_electron.storage,
+                notation=two_electron.notation,
+                one_shape=ham.one_electron.shape,
+                one_dtype=ham.one_electron.dtype,
+                two_shape=two_electron.array.shape,
+                two_dtype=two_electron.array.dtype,
             )
         )
     if problems:

@@ -133,7 +133,7 @@ class Reference:
 
 @dataclass(frozen=True, eq=False)
 class Hamiltonian:
-    """Everything a Hamiltonian file holds (see ``../shared/design/format.md``).
+    """Everything a Hamiltonian file holds (see ``docs/format.md``).
 
     ``one_electron``: (n, n), or (2, n, n) as [alpha, beta] when unrestricted.
     ``two_electron.array``: by storage, see :func:`integrity.model.indexing.two_electron_shape`.
@@ -202,6 +202,7 @@ def _dtype_problem(name: str, array) -> str | None:
 
 
 def shape_problems(
+    *,
     basis: str,
     count: int,
     storage: str,
@@ -326,14 +327,14 @@ def structure_problems(ham: Hamiltonian) -> Iterator[tuple[str, str]]:
             return
     two = ham.two_electron
     yield from shape_problems(
-        orb.basis,
-        orb.count,
-        two.storage,
-        two.notation,
-        ham.one_electron.shape,
-        ham.one_electron.dtype,
-        two.array.shape,
-        two.array.dtype,
+        basis=orb.basis,
+        count=orb.count,
+        storage=two.storage,
+        notation=two.notation,
+        one_shape=ham.one_electron.shape,
+        one_dtype=ham.one_electron.dtype,
+        two_shape=two.array.shape,
+        two_dtype=two.array.dtype,
     )
     yield from _reference_problems(ham)
     yield from _provenance_problems(ham.provenance)

@@ -108,10 +108,12 @@ def chemist_to_physicist(chem: np.ndarray) -> np.ndarray:
     return np.swapaxes(chem, -3, -2)
 
 
-physicist_to_chemist = chemist_to_physicist
-physicist_to_chemist.__doc__ = (
-    "Chemist view of a physicist array: ``chem[p,q,r,s] = phys[p,r,q,s]`` (the same involution)."
-)
+def physicist_to_chemist(phys: np.ndarray) -> np.ndarray:
+    """Chemist view of a physicist array: ``chem[p,q,r,s] = phys[p,r,q,s]`` (a view, no copy).
+
+    The same involution as :func:`chemist_to_physicist`, named for the direction read.
+    """
+    return np.swapaxes(phys, -3, -2)
 
 
 def unpack_pairs(pairs: np.ndarray, n: int) -> np.ndarray:

@@ -7,6 +7,7 @@ arrays: the Hubbard model, random Hamiltonians, orbital rotations.
 
 from integrity.testing.arrays import (
     hubbard,
+    hund_pair,
     random_restricted,
     random_unitary,
     random_unrestricted,
@@ -17,6 +18,7 @@ from integrity.testing.hamiltonians import random_hamiltonian
 
 __all__ = [
     "hubbard",
+    "hund_pair",
     "random_hamiltonian",
     "random_restricted",
     "random_unitary",

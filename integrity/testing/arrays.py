@@ -25,6 +25,7 @@ from integrity.model.indexing import unpack_pairs
 
 __all__ = [
     "hubbard",
+    "hund_pair",
     "random_restricted",
     "random_unitary",
     "random_unrestricted",
@@ -44,6 +45,25 @@ def hubbard(sites: int, *, t: float = 1.0, u: float = 0.0, periodic: bool = Fals
     for i in range(sites):
         eri[i, i, i, i] = u
     return h, eri
+
+
+def hund_pair(u: float = 1.0, v: float = 0.6, k: float = 0.15):
+    """Two degenerate orbitals: (00|00) = (11|11) = u, (00|11) = v, exchange (01|01) = (01|10) = k.
+
+    With one alpha and one beta electron its levels, found by hand in the four
+    S_z = 0 determinants, are the triplet v - k, the open-shell singlet v + k and
+    the closed-shell singlets u - k and u + k (k couples |0a0b> and |1a1b>).
+
+    >>> h, eri = hund_pair()
+    >>> float(eri[0, 1, 1, 0]), h.shape
+    (0.15, (2, 2))
+    """
+    eri = np.zeros((2, 2, 2, 2))
+    eri[0, 0, 0, 0] = eri[1, 1, 1, 1] = u
+    eri[0, 0, 1, 1] = eri[1, 1, 0, 0] = v
+    for p, q, r, s in ((0, 1, 0, 1), (0, 1, 1, 0), (1, 0, 0, 1), (1, 0, 1, 0)):
+        eri[p, q, r, s] = k
+    return np.zeros((2, 2)), eri
 
 
 def random_restricted(n: int, rng: np.random.Generator, *, scale: float = 1.0, spread: float = 0.0):

@@ -9,6 +9,8 @@ from locations import FIXTURES
 
 from integrity.checks import check
 
+pytestmark = pytest.mark.slow  # regenerates or checks whole fixtures
+
 MANIFEST = json.loads((FIXTURES / "manifest.json").read_text())
 #: warnings a good fixture may carry, with the reason fixtures/README.md gives
 ALLOWED_WARNINGS = {"good/hubbard_ring6_u4.json": {"two_electron.notation"}}

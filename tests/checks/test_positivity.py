@@ -10,11 +10,12 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
+from builders import with_two_electron
 from pyscf import ao2mo, gto, scf
 
 from integrity.checks import check
 from integrity.checks import positivity as positivity_module
-from integrity.model.hamiltonian import Electrons, Hamiltonian, Orbitals, TwoElectron
+from integrity.model.hamiltonian import TwoElectron
 from integrity.model.indexing import pack_pairs, unique_from_pairs
 from integrity.testing.hamiltonians import random_hamiltonian
 
@@ -25,17 +26,6 @@ MOLECULES = [
     ("C 0 0 0; O 0 0 1.128", "sto-3g"),
 ]
 POSITIVE = ["two_electron.positive"]
-
-
-def _ham(eri, storage="dense", notation="chemist", interaction=None, n=None):
-    n = eri.shape[0] if n is None else n
-    return Hamiltonian(
-        Orbitals(n, "restricted"),
-        Electrons(1, 1),
-        0.0,
-        np.eye(n),
-        TwoElectron(eri, notation=notation, storage=storage, interaction=interaction),
-    )
 
 
 @pytest.fixture(scope="module", params=MOLECULES, ids=[b + " " + a.split()[0] for a, b in MOLECULES])
@@ -50,7 +40,7 @@ def integrals(request):
 
 def test_pyscf_integrals_are_positive_and_obey_coulomb_exchange_and_schwarz(integrals):
     for eri in integrals:
-        result = check(_ham(eri), only=POSITIVE).results[0]
+        result = check(with_two_electron(eri), only=POSITIVE).results[0]
         assert result.status == "pass", result.message
         assert result.details["schwarz_excess"] <= 1e-10
         assert result.details["coulomb_min"] >= 0
@@ -60,7 +50,7 @@ def test_pyscf_integrals_are_positive_and_obey_coulomb_exchange_and_schwarz(inte
 def test_the_cholesky_path_agrees_with_the_eigenvalue_path(integrals, monkeypatch):
     _, mo = integrals
     monkeypatch.setattr(positivity_module, "EIGEN_PAIRS", 0)
-    result = check(_ham(mo), only=POSITIVE).results[0]
+    result = check(with_two_electron(mo), only=POSITIVE).results[0]
     assert result.status == "pass", result.message
     assert "Cholesky" in result.details["method"]
     assert result.details["cholesky_rank"] <= result.details["pairs"]
@@ -70,7 +60,9 @@ def test_packed_storages_give_the_same_verdict(integrals):
     _, mo = integrals
     pairs = pack_pairs(mo)
     for array, storage in ((pairs, "pairs"), (unique_from_pairs(pairs), "unique")):
-        result = check(_ham(np.ascontiguousarray(array), storage, n=mo.shape[0]), only=POSITIVE).results[0]
+        result = check(
+            with_two_electron(np.ascontiguousarray(array), storage=storage, n=mo.shape[0]), only=POSITIVE
+        ).results[0]
         assert result.status == "pass", result.message
 
 
@@ -90,7 +82,7 @@ def test_an_indefinite_pair_matrix_fails_by_both_methods(integrals, monkeypatch,
     _, mo = integrals
     monkeypatch.setattr(positivity_module, "EIGEN_PAIRS", eigen_pairs)
     eri, lowest = _indefinite(mo)
-    result = check(_ham(eri), only=POSITIVE).results[0]
+    result = check(with_two_electron(eri), only=POSITIVE).results[0]
     assert result.status == "fail"
     assert result.value < -1e-8
     if eigen_pairs:
@@ -99,7 +91,7 @@ def test_an_indefinite_pair_matrix_fails_by_both_methods(integrals, monkeypatch,
 
 def test_a_physicist_array_labelled_chemist_breaks_the_schwarz_bound(integrals):
     _, mo = integrals
-    result = check(_ham(np.ascontiguousarray(mo.transpose(0, 2, 1, 3))), only=POSITIVE).results[0]
+    result = check(with_two_electron(np.ascontiguousarray(mo.transpose(0, 2, 1, 3))), only=POSITIVE).results[0]
     assert result.status == "fail"
     assert "Schwarz" in result.message or "positive" in result.message
 
@@ -107,8 +99,8 @@ def test_a_physicist_array_labelled_chemist_breaks_the_schwarz_bound(integrals):
 def test_a_model_interaction_is_exempt():
     eri = np.zeros((2, 2, 2, 2))
     eri[0, 0, 0, 0] = eri[1, 1, 1, 1] = -4.0  # attractive Hubbard U
-    assert check(_ham(eri, interaction="model"), only=POSITIVE).results[0].status == "skip"
-    assert check(_ham(eri), only=POSITIVE).results[0].status == "fail"
+    assert check(with_two_electron(eri, interaction="model"), only=POSITIVE).results[0].status == "skip"
+    assert check(with_two_electron(eri), only=POSITIVE).results[0].status == "fail"
 
 
 @pytest.mark.parametrize("basis", ["restricted", "unrestricted"])

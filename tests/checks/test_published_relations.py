@@ -14,11 +14,11 @@ import itertools
 
 import numpy as np
 import pytest
+from builders import with_two_electron
 from pyscf import ao2mo, gto, scf
 
 from integrity.checks import check
 from integrity.checks.relations import orbit, relations_for
-from integrity.model.hamiltonian import Electrons, Hamiltonian, Orbitals, TwoElectron
 
 REAL_EIGHT = [  # (pq|rs) equals X[...] under these index orders (Sherrill, eq. 7)
     (0, 1, 2, 3),
@@ -92,28 +92,19 @@ def test_physicist_relation_matches_an_explicit_loop_on_pyscf_integrals(water):
     assert np.array_equal(chemist_to_physicist(mo), phys)
 
 
-def _ham(eri, notation="chemist", n=None):
-    n = eri.shape[0] if n is None else n
-    return Hamiltonian(
-        Orbitals(n, "restricted"),
-        Electrons(1, 1),
-        0.0,
-        np.eye(n),
-        TwoElectron(np.ascontiguousarray(eri), notation=notation),
-    )
-
-
 def test_pyscf_integrals_pass_the_symmetry_and_notation_checks_in_both_notations(water):
     mol, mf, ao, mo = water
     for eri in (ao, mo, _complex_mo(mol, mf, ao)):
         for notation, array in (("chemist", eri), ("physicist", eri.transpose(0, 2, 1, 3))):
-            report = check(_ham(array, notation), only=["two_electron.symmetry", "two_electron.notation"])
+            report = check(
+                with_two_electron(array, notation=notation), only=["two_electron.symmetry", "two_electron.notation"]
+            )
             assert [r.status for r in report.results] == ["pass", "pass"], [r.message for r in report.results]
 
 
 def test_a_physicist_array_labelled_chemist_fails_the_notation_check(water):
     _, _, _, mo = water
-    report = check(_ham(mo.transpose(0, 2, 1, 3), "chemist"), only=["two_electron.notation"])
+    report = check(with_two_electron(mo.transpose(0, 2, 1, 3), notation="chemist"), only=["two_electron.notation"])
     result = report.results[0]
     assert result.status == "fail"
     assert "physicist" in result.message
@@ -121,6 +112,6 @@ def test_a_physicist_array_labelled_chemist_fails_the_notation_check(water):
 
 def test_a_chemist_array_labelled_physicist_fails_the_notation_check(water):
     _, _, _, mo = water
-    result = check(_ham(mo, "physicist"), only=["two_electron.notation"]).results[0]
+    result = check(with_two_electron(mo, notation="physicist"), only=["two_electron.notation"]).results[0]
     assert result.status == "fail"
     assert "chemist" in result.message

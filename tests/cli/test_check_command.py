@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import json
 
+import pytest
 from locations import FIXTURES
 
 from integrity.cli import main
@@ -40,6 +41,7 @@ def test_unreadable_wins_over_failed_when_both_occur(runner):
     assert runner.invoke(main, ["check", DAMAGED, TRUNCATED]).exit_code == 2
 
 
+@pytest.mark.slow
 def test_a_folder_is_searched_for_hamiltonian_files(runner):
     result = runner.invoke(main, ["check", str(FIXTURES / "good")])
     assert result.exit_code == 0

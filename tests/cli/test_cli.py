@@ -121,6 +121,21 @@ def test_every_subcommand_help_shows_an_example(runner, name, flag):
     assert example_lines, f"no 'integrity {name} ...' example in:\n{result.stdout}"
 
 
+def test_the_short_help_of_every_subcommand_is_whole(runner):
+    """click cuts a docstring's first sentence at 45 characters with '...'; ours are written whole."""
+    result = runner.invoke(main, ["--help"])
+    listed = result.stdout.split("Commands:")[1]
+    assert "..." not in listed
+    for name, command in main.commands.items():
+        assert command.get_short_help_str(limit=45) in listed, name
+
+
+def test_the_check_list_needs_no_path(runner):
+    result = runner.invoke(main, ["check", "--list"])
+    assert result.exit_code == 0, result.output
+    assert "two_electron.symmetry" in result.stdout and "energy.fci" in result.stdout
+
+
 def test_the_version_is_printed(runner):
     result = runner.invoke(main, ["--version"])
     assert result.exit_code == 0

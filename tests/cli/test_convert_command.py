@@ -15,6 +15,7 @@ from integrity.model.fingerprint import fingerprint
 WATER = str(FIXTURES / "good" / "water_sto3g.json")
 
 
+@pytest.mark.slow
 def test_several_steps_in_one_call_keep_the_energy_and_record_the_history(runner, tmp_path):
     out = tmp_path / "water_so.h5"
     args = [

@@ -80,6 +80,7 @@ def test_a_hamiltonian_without_optional_fields_gains_none_in_the_round_trip(ham)
     ],
     ids=["gzip", "gzip-9-chunked", "lzf", "lzf-chunked", "chunked"],
 )
+@pytest.mark.slow
 @FILE_SETTINGS
 @given(ham=hamiltonians(sizes=(3, 4, 5)))
 def test_compressed_and_chunked_hdf5_reads_back_the_same_values(options, ham):

@@ -33,6 +33,7 @@ def _pyscf_unrestricted(h1, eri, n, nelec, nroots):
 SECTORS = [(3, 1, 1), (4, 2, 2), (4, 3, 1), (5, 2, 3), (6, 3, 3), (6, 1, 4), (7, 4, 3), (8, 4, 4), (8, 3, 2), (8, 5, 5)]
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("seed", range(3))
 @pytest.mark.parametrize(("n", "n_alpha", "n_beta"), SECTORS)
 def test_random_restricted_hamiltonians_agree_with_pyscf(seed, n, n_alpha, n_beta):

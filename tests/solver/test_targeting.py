@@ -11,6 +11,7 @@ from integrity.solver import slater_condon_solve, solve_arrays
 from integrity.solver.integrals import spin_orbital_integrals
 from integrity.solver.spin import two_s_of
 from integrity.testing.arrays import (
+    hund_pair,
     random_restricted,
     random_unrestricted,
     restrict_to_irreps,
@@ -19,21 +20,11 @@ from integrity.testing.arrays import (
 TOL = 1e-9
 
 
-def _hund_pair(u=1.0, v=0.6, k=0.15):
-    """Two degenerate orbitals with on-site u, inter-orbital v and exchange k."""
-    eri = np.zeros((2, 2, 2, 2))
-    eri[0, 0, 0, 0] = eri[1, 1, 1, 1] = u
-    eri[0, 0, 1, 1] = eri[1, 1, 0, 0] = v
-    for p, q, r, s in ((0, 1, 0, 1), (0, 1, 1, 0), (1, 0, 0, 1), (1, 0, 1, 0)):
-        eri[p, q, r, s] = k
-    return np.zeros((2, 2)), eri
-
-
 @pytest.mark.parametrize("engine", ["native", "pyscf"])
 def test_a_singlet_target_skips_the_lower_triplet_of_a_hund_pair(engine):
     # Levels derived by hand (see test_models): triplet v - k = 0.45 lies lowest at S_z = 0;
     # the singlets are v + k = 0.75, u - k = 0.85 and u + k = 1.15.
-    h, eri = _hund_pair()
+    h, eri = hund_pair()
     singlets = solve_arrays("restricted", h, eri, n_alpha=1, n_beta=1, two_s=0, nroots=3, engine=engine)
     assert np.allclose(singlets.energies, [0.75, 0.85, 1.15], atol=1e-12)
     assert all(abs(r.s_squared) < 1e-8 and r.two_s == 0 for r in singlets.roots)

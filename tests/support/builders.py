@@ -338,3 +338,16 @@ def antisymmetrized_of(phys: np.ndarray) -> np.ndarray:
     for p, q, r, s in np.ndindex(phys.shape):
         out[p, q, r, s] = phys[p, q, r, s] - phys[p, q, s, r]
     return out
+
+
+def with_two_electron(eri, *, notation="chemist", storage="dense", interaction=None, n=None) -> Hamiltonian:
+    """A restricted two-electron Hamiltonian around ``eri`` (h = 1, one electron of each spin):
+    for checks that look at the two-electron array alone."""
+    n = eri.shape[0] if n is None else n
+    return Hamiltonian(
+        Orbitals(n, "restricted"),
+        Electrons(1, 1),
+        0.0,
+        np.eye(n),
+        TwoElectron(np.ascontiguousarray(eri), notation=notation, storage=storage, interaction=interaction),
+    )

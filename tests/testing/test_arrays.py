@@ -6,7 +6,7 @@ import numpy as np
 import pytest
 
 from integrity.solver import slater_condon_solve, solve_arrays
-from integrity.testing.arrays import hubbard
+from integrity.testing.arrays import hubbard, hund_pair
 
 
 @pytest.mark.parametrize(("t", "u"), [(1.0, 4.0), (0.5, 1.0), (1.0, 0.0), (0.3, 10.0)])
@@ -78,20 +78,10 @@ def test_h2_sto3g_at_1_4_bohr_reproduces_the_szabo_ostlund_full_ci_energy():
     assert abs((energy - mf.e_tot) - (-0.0205)) < 1e-4
 
 
-def _hund_pair(u: float, v: float, k: float):
-    """Two degenerate orbitals: (00|00) = (11|11) = u, (00|11) = v, exchange (01|01) = k."""
-    eri = np.zeros((2, 2, 2, 2))
-    eri[0, 0, 0, 0] = eri[1, 1, 1, 1] = u
-    eri[0, 0, 1, 1] = eri[1, 1, 0, 0] = v
-    for p, q, r, s in ((0, 1, 0, 1), (0, 1, 1, 0), (1, 0, 0, 1), (1, 0, 1, 0)):
-        eri[p, q, r, s] = k
-    return np.zeros((2, 2)), eri
-
-
 def test_hund_pair_levels_follow_from_the_two_electron_matrix():
     # Derived by hand in the S_z = 0 determinants: triplet v - k, open-shell singlet v + k,
     # closed-shell singlets u -+ k (pair hopping k couples |0a0b> and |1a1b>).
-    h, eri = _hund_pair(1.0, 0.6, 0.15)
+    h, eri = hund_pair(1.0, 0.6, 0.15)
     result = solve_arrays("restricted", h, eri, n_alpha=1, n_beta=1, nroots=4)
     assert np.allclose(result.energies, [0.45, 0.75, 0.85, 1.15], atol=1e-12)
     assert [r.two_s for r in result.roots] == [2, 0, 0, 0]
