@@ -23,7 +23,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from integrity.errors import FieldError
-from integrity.solver.integrals import pair_symmetric, spin_labels, sz_coupling
+from integrity.solver.davidson import PSpace, lowest_indices
+from integrity.solver.integrals import pair_symmetric, spin_labels, spin_orbital_integrals, sz_coupling
 from integrity.solver.irrep_blocks import block_layout
 from integrity.solver.memory import (
     MemoryEstimate,
@@ -39,7 +40,7 @@ from integrity.solver.sigma_spin_orbital import (
     intermediate_strings,
     sigma_spin_orbital,
 )
-from integrity.solver.slater_condon import determinant_list
+from integrity.solver.slater_condon import determinant_list, hamiltonian_matrix
 from integrity.solver.spin import (
     spin_orbital_raising,
     spin_square_matrix_blocked,
@@ -48,12 +49,16 @@ from integrity.solver.spin import (
 from integrity.solver.strings import strings
 
 __all__ = [
+    "PSPACE_SIZE",
     "SZ_TOLERANCE",
     "Problem",
     "spin_orbital_problem",
     "sz_conserved",
     "two_string_problem",
 ]
+
+PSPACE_SIZE = 400
+"""Determinants treated exactly in the Davidson preconditioner and start (a few hundred is common practice)."""
 
 SZ_TOLERANCE = 1e-14
 """S_z-changing elements up to this size (relative to the largest) count as zero."""
@@ -73,6 +78,7 @@ class Problem:
     memory: MemoryEstimate
     notes: tuple
     irrep: int | None = None
+    pspace: PSpace | None = None
 
 
 def _irrep_selection(labels: np.ndarray, irrep):
@@ -142,6 +148,7 @@ def two_string_problem(
     if spin_square is None:
         spin_square = basis == "restricted"
 
+    pspace = _pspace(basis, h1, eri, layout, op.diagonal) if layout.size > PSPACE_SIZE else None
     labels = None
     if irreps is not None and irrep is None:  # whole sector: label each determinant to report root irreps
         labels = (
@@ -161,7 +168,26 @@ def two_string_problem(
         memory=estimate,
         notes=tuple(notes),
         irrep=None if irrep is None else int(irrep),
+        pspace=pspace,
     )
+
+
+def _pspace(basis, h1, eri, layout, diagonal) -> PSpace:
+    """``H_PP`` over the ``PSPACE_SIZE`` determinants of lowest diagonal (Slater–Condon rules)."""
+    chosen = np.sort(lowest_indices(diagonal, PSPACE_SIZE))
+    offsets = np.array([b.offset for b in layout.blocks])
+    block = np.searchsorted(offsets, chosen, side="right") - 1
+    alpha_strings = strings(len(layout.orbital_irreps), layout.n_alpha)
+    beta_strings = strings(len(layout.orbital_irreps), layout.n_beta)
+    dets = np.empty(len(chosen), dtype=np.int64)
+    for k, b in enumerate(layout.blocks):
+        mine = block == k
+        row, col = np.divmod(chosen[mine] - b.offset, b.cols)
+        a = alpha_strings[layout.alpha.members(b.alpha_irrep)[row]]
+        c = beta_strings[layout.beta.members(b.beta_irrep)[col]]
+        dets[mine] = a | (c << np.int64(len(layout.orbital_irreps)))
+    h, g = spin_orbital_integrals(basis, h1, eri, layout="blocked")
+    return PSpace(chosen, hamiltonian_matrix(h, g, dets))
 
 
 def sz_conserved(h, eri, layout: str) -> bool:

@@ -138,10 +138,10 @@ def _pair_blocks(eri_ab, p, q, irreps, dtype):
 
 
 def _beta_gather(table, groups, pair_irreps, pair_local, npair_by_irrep):
-    """``gather[(Gb, Γ)][rs, Ib]``: row of ``[c_s.T | -c_s.T | 0]`` of the source block.
+    """``gather[(Gb, Γ)] = (row, sign)``: ``<Ib|E_rs|Jb> c_s[:, Jb] = sign[rs, Ib] * [c_s.T | 0][row[rs, Ib]]``.
 
     ``s`` is the block whose beta irrep is ``Gb ^ Γ``; rows are local source
-    strings, shifted by ``nb_s`` for a negative sign; ``2 nb_s`` is the zero row.
+    strings, ``nb_s`` (the zero row, sign 0) where ``E_rs`` reaches no string.
     """
     gathers = {}
     for gb in range(IRREPS):
@@ -157,11 +157,12 @@ def _beta_gather(table, groups, pair_irreps, pair_local, npair_by_irrep):
             if npair_by_irrep[g] == 0:
                 continue
             nb_s = groups.size(gb ^ g)
-            gather = np.full((npair_by_irrep[g], len(targets)), 2 * nb_s, dtype=np.int64)
+            row = np.full((npair_by_irrep[g], len(targets)), nb_s, dtype=np.int64)
+            factor = np.zeros((npair_by_irrep[g], len(targets), 1))
             hit = gamma == g
-            local = groups.local[source[hit]]
-            gather[pair_local[pair[hit]], column[hit]] = np.where(sign[hit] > 0, local, local + nb_s)
-            gathers[(gb, g)] = gather
+            row[pair_local[pair[hit]], column[hit]] = groups.local[source[hit]]
+            factor[pair_local[pair[hit]], column[hit], 0] = sign[hit]
+            gathers[(gb, g)] = (row, factor)
     return gathers
 
 
@@ -288,7 +289,7 @@ def _buffers(op: BlockedTwoString, dtype) -> dict:
 
 
 def _sources(op: BlockedTwoString, views, dtype) -> dict:
-    """``[c_s.T | -c_s.T | 0]`` by alpha irrep of the source block (a zero row if not stored)."""
+    """``[c_s.T | 0]`` by alpha irrep of the source block (a zero row if not stored)."""
     out = {}
     layout = op.layout
     for ga in range(IRREPS):
@@ -301,10 +302,9 @@ def _sources(op: BlockedTwoString, views, dtype) -> dict:
             continue
         c = views[layout.blocks.index(block)]
         cols = block.cols
-        stacked = np.empty((2 * cols + 1, rows), dtype=dtype)
+        stacked = np.empty((cols + 1, rows), dtype=dtype)
         stacked[:cols] = c.T
-        np.negative(c.T, out=stacked[cols : 2 * cols])
-        stacked[2 * cols] = 0
+        stacked[cols] = 0
         out[ga] = stacked
     return out
 
@@ -357,8 +357,9 @@ def _alpha_beta_unit(op, sources, out_views, dtype, target: Target, start: int) 
     for source in target.sources:
         size = source.npair * width * source.rows
         gathered = b_buffer[:size].reshape(source.npair, width, source.rows)
-        index = op.beta_gather[(target.beta_irrep, source.gamma)][:, start : start + width]
-        np.take(sources[source.alpha_irrep], index, axis=0, out=gathered, mode="clip")
+        row, factor = op.beta_gather[(target.beta_irrep, source.gamma)]
+        np.take(sources[source.alpha_irrep], row[:, start : start + width], axis=0, out=gathered, mode="clip")
+        gathered *= factor[:, start : start + width]
         region = g[width * source.prefix : width * source.prefix + size]
         np.matmul(
             op.pair_blocks[source.gamma],

@@ -166,6 +166,7 @@ def lowest_states(
             dtype=problem.dtype,
             progress=counted,
             max_space=max_space,
+            pspace=problem.pspace,
         )
         iterations += result.iterations
         exhausted = len(result.energies) < k or k >= problem.ndet
