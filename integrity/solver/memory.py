@@ -46,8 +46,8 @@ class MemoryEstimate:
     determinants: int
 
 
-SIGMA_VECTORS = 6
-"""Vector-sized arrays alive during one sigma: input, result, the signed source copy (2), parity flip (2)."""
+SIGMA_VECTORS = 3
+"""Vector-sized arrays besides Davidson's: the diagonal, and in sigma the result and the transposed source copy."""
 
 
 def _davidson_bytes(ndet: int, nroots: int, itemsize: int, max_space: int | None = None) -> int:
@@ -120,7 +120,7 @@ def two_string_memory(
     rows = {b.alpha_irrep: b.rows for b in layout.blocks}
     cols = {b.beta_irrep: b.cols for b in layout.blocks}
     tables = 33 * (na * nent_a + (nb * nent_b if n_alpha != n_beta else 0))
-    gathers = 8 * npair * sum(cols.values())
+    gathers = 24 * nent_b * sum(cols.values())
     alpha_side = 32 * nent_a * sum(rows.values())
     offsets, scratch = 0, 0
     if nent_a and nent_b:

@@ -11,18 +11,21 @@ Same spin: ``<Ia|H_a|Ja>`` connects strings of one irrep inside ``P H P``, so
 
 Alpha-beta: between two determinants of irrep ``G`` only the terms
 ``(pq|rs) E^a_pq E^b_rs`` with ``Γ(pq) = Γ(rs) = Γ`` survive, and for the target
-block ``(Ga, Gb)`` their source is the block ``(Ga ^ Γ, Gb ^ Γ)``. For each beta
-target range ``i`` of the target block and each ``Γ``::
+block ``(Ga, Gb)`` their source is the block ``(Ga ^ Γ, Gb ^ Γ)``. A beta string
+``Ib`` is reached by only ``K`` of the pairs ``rs`` of irrep ``Γ`` (``K`` at most
+``n_beta * (n - n_beta + 1)`` over all ``Γ``, against ``n (n + 1) / 2`` pairs), so
+for each target beta string ``i`` and each ``Γ``::
 
-    B_Γ[rs, i, Ja] = sum_Jb <Ib_i|E^b_rs|Jb> c[Ja, Jb]       rs of irrep Γ (beta gather)
-    G_Γ[pq, i, Ja] = sum_rs (pq|rs)_Γ B_Γ[rs, i, Ja]          (one product per Γ)
-    sigma[Ia, Ib_i] += sum_pq sum_Ja <Ia|E^a_pq|Ja> G_Γ(pq)[pq, i, Ja]  (alpha gather)
+    B[i, k, Ja] = <Ib_i|E^b_rs_k|Jb_k> c[Ja, Jb_k]              k < K (beta gather)
+    G_Γ[i, pq, Ja] = sum_k (pq|rs_k) B[i, k, Ja]                 (a product per string)
+    sigma[Ia, Ib_i] += sum_pq sum_Ja <Ia|E^a_pq|Ja> G_Γ(pq)[i, pq, Ja]  (alpha gather)
 
-so the products cost ``sum_Γ npair_Γ**2`` per determinant instead of
-``npair**2`` (about 1/8 of it for D2h, 1/4 for C2v) and the vectors and
-scratch hold the target blocks only. The ``G_Γ`` of one unit lie one after the
-other in one flat buffer, so the alpha gather is one ``take`` through offsets
-computed once per target block and width.
+so the products cost ``sum_Γ npair_Γ K_Γ`` per determinant instead of
+``npair**2`` (for N2 CAS(14,14) without irreps 105 x 56 instead of 105 x 105;
+with D2h irreps about 1/8 of that again) and the vectors and scratch hold the
+target blocks only. The ``G_Γ`` of one unit lie one after the other in one flat
+buffer, so the alpha gather is one ``take`` through offsets computed once per
+target block and width.
 
 The work is cut into units (column ranges for ``H_a`` and the alpha-beta
 part, row ranges for ``H_b``) run on the worker threads of :mod:`parallel`,
@@ -46,6 +49,11 @@ from integrity.solver.strings import occupation_matrix, strings
 from integrity.solver.tables import excitation_table
 
 __all__ = ["SCRATCH_BYTES", "BlockedTwoString", "build_blocked", "sigma_blocked", "unit_scratch_bytes"]
+
+COMPRESS_FRACTION = 0.8
+COMPRESS_ROWS = 200
+"""The beta gather is compressed to the K pairs that reach each string when K <= 0.8 npair_Γ and
+the source block has at least 200 alpha strings (smaller products cost more in calls than they save)."""
 
 SCRATCH_BYTES = 6 * 2**20
 """Target scratch of one alpha-beta unit (B, G, gathered rows and offsets), per thread."""
@@ -80,10 +88,12 @@ class Target:
     column: np.ndarray  # (rows, nent): local Ja
     sign: np.ndarray  # (rows, 1, nent)
     width: int
+    largest: int  # B scratch per beta string: max over Γ of K_Γ * na_s
     offsets: dict  # width -> (rows, nent, width) offsets of <Ia|E_pq|Ja> into the flat G of a unit
 
 
 def _offsets(base, stride, column, width: int) -> np.ndarray:
+    """``width * base + column + i * stride`` for ``i < width``: where ``<Ia|E_pq|Ja>`` reads G."""
     return (width * base + column)[:, :, None] + stride[:, :, None] * np.arange(width)
 
 
@@ -95,7 +105,7 @@ class BlockedTwoString:
     dtype: np.dtype
     h_alpha: dict
     h_beta: dict
-    pair_blocks: tuple
+    pair_blocks: tuple  # transposed: pair_blocks[Γ][rs, pq] = (pq|rs)_ab
     beta_gather: dict
     targets: tuple[Target, ...]
     diagonal: np.ndarray
@@ -137,11 +147,23 @@ def _pair_blocks(eri_ab, p, q, irreps, dtype):
     return tuple(blocks)
 
 
-def _beta_gather(table, groups, pair_irreps, pair_local, npair_by_irrep):
-    """``gather[(Gb, Γ)] = (row, sign)``: ``<Ib|E_rs|Jb> c_s[:, Jb] = sign[rs, Ib] * [c_s.T | 0][row[rs, Ib]]``.
+def _compressed(excitations: int, npair: int, rows: int) -> bool:
+    """Whether the per-string products (K of npair pairs) pay for their per-call cost here."""
+    return excitations <= COMPRESS_FRACTION * npair and rows >= COMPRESS_ROWS
 
-    ``s`` is the block whose beta irrep is ``Gb ^ Γ``; rows are local source
-    strings, ``nb_s`` (the zero row, sign 0) where ``E_rs`` reaches no string.
+
+def _beta_gather(table, groups, pair_irreps, pair_local, npair_by_irrep, alpha_sizes, target):
+    """Per target beta irrep ``Gb`` and pair irrep ``Γ``: the beta excitations, compressed.
+
+    ``gather[(Gb, Γ)] = (row, sign, pair)``, each ``(nb[Gb], K)``: for target
+    string ``Ib`` its ``K`` excitations ``E_rs`` of irrep ``Γ`` (padded with
+    sign 0), ``pair`` the index of ``rs`` inside ``Γ`` and ``row`` the source
+    string's row in ``[c_s.T | 0]`` (``s`` the block of beta irrep ``Gb ^ Γ``;
+    the zero row ``nb_s`` for padding). ``sign`` has a trailing axis of 1.
+
+    Where the compression does not pay (:func:`_compressed`), the plain form
+    ``(row, sign, None)`` with ``row`` and ``sign`` of shape ``(npair_Γ, nb[Gb])``
+    lists every pair of ``Γ`` (sign 0 where ``E_rs`` reaches no string).
     """
     gathers = {}
     for gb in range(IRREPS):
@@ -152,27 +174,40 @@ def _beta_gather(table, groups, pair_irreps, pair_local, npair_by_irrep):
         source = table.source[targets]
         sign = table.sign[targets]
         gamma = pair_irreps[pair]
-        column = np.broadcast_to(np.arange(len(targets))[:, None], pair.shape)
         for g in range(IRREPS):
             if npair_by_irrep[g] == 0:
                 continue
             nb_s = groups.size(gb ^ g)
-            row = np.full((npair_by_irrep[g], len(targets)), nb_s, dtype=np.int64)
-            factor = np.zeros((npair_by_irrep[g], len(targets), 1))
             hit = gamma == g
-            row[pair_local[pair[hit]], column[hit]] = groups.local[source[hit]]
-            factor[pair_local[pair[hit]], column[hit], 0] = sign[hit]
-            gathers[(gb, g)] = (row, factor)
+            count = hit.sum(axis=1)
+            width = max(1, int(count.max(initial=0)))
+            if not _compressed(width, int(npair_by_irrep[g]), alpha_sizes[gb ^ target ^ g]):
+                row = np.full((npair_by_irrep[g], len(targets)), nb_s, dtype=np.int64)
+                factor = np.zeros((npair_by_irrep[g], len(targets), 1))
+                column = np.broadcast_to(np.arange(len(targets))[:, None], pair.shape)
+                row[pair_local[pair[hit]], column[hit]] = groups.local[source[hit]]
+                factor[pair_local[pair[hit]], column[hit], 0] = sign[hit]
+                gathers[(gb, g)] = (row, factor, None)
+                continue
+            first = np.argsort(~hit, axis=1, kind="stable")[:, :width]  # the hits of each row, in table order
+            valid = np.arange(width)[None, :] < count[:, None]
+            picked_source = np.take_along_axis(source, first, axis=1)
+            row = np.where(valid, groups.local[picked_source], nb_s)
+            factor = np.where(valid, np.take_along_axis(sign, first, axis=1), 0).astype(np.float64)[:, :, None]
+            local = np.where(valid, pair_local[np.take_along_axis(pair, first, axis=1)], 0)
+            gathers[(gb, g)] = (row, factor, local)
     return gathers
 
 
-def _targets(layout, table, pair_irreps, pair_local, npair_by_irrep, itemsize):
+def _targets(layout, table, pair_irreps, pair_local, npair_by_irrep, gathers, itemsize):
     nent = table.sign.shape[1]
+    sizes = np.array([layout.alpha.size(g) for g in range(IRREPS)], dtype=np.int64)
     out = []
     for index, block in enumerate(layout.blocks):
         ga = block.alpha_irrep
         sources, prefix, largest = [], 0, 0
         starts = np.zeros(IRREPS, dtype=np.int64)
+        compressed = np.zeros(IRREPS, dtype=bool)
         for gamma in range(IRREPS):
             rows_s = layout.alpha.size(ga ^ gamma)
             if npair_by_irrep[gamma] == 0 or rows_s == 0:
@@ -180,16 +215,23 @@ def _targets(layout, table, pair_irreps, pair_local, npair_by_irrep, itemsize):
             starts[gamma] = prefix
             sources.append(Source(gamma, ga ^ gamma, rows_s, int(npair_by_irrep[gamma]), prefix))
             prefix += int(npair_by_irrep[gamma]) * rows_s
-            largest = max(largest, int(npair_by_irrep[gamma]) * rows_s)
+            row, _, local = gathers[(block.beta_irrep, gamma)]
+            compressed[gamma] = local is not None
+            largest = max(largest, (row.shape[1] if local is not None else row.shape[0]) * rows_s)
         members = layout.alpha.members(ga)
         pair = table.pair[members]
         source = table.source[members]
         gamma = pair_irreps[pair]
-        stride = np.array([layout.alpha.size(g) for g in range(IRREPS)], dtype=np.int64)[layout.alpha.irreps[source]]
+        rows_of_source = sizes[layout.alpha.irreps[source]]
         per_width = unit_scratch_bytes(block.rows, nent, prefix, largest, 1, itemsize)
         width = max(1, min(block.cols, SCRATCH_BYTES // max(1, per_width)))
-        base = starts[gamma] + pair_local[pair] * stride
-        column = layout.alpha.local[source]
+        # G_Γ of a unit sits at width * prefix_Γ in the flat buffer, as (width, npair_Γ, na_s)
+        # when its beta gather is compressed, else as (npair_Γ, width, na_s)
+        squeezed = compressed[gamma]
+        local_pair, local_source = pair_local[pair], layout.alpha.local[source]
+        base = starts[gamma] + np.where(squeezed, 0, local_pair * rows_of_source)
+        stride = np.where(squeezed, npair_by_irrep[gamma] * rows_of_source, rows_of_source)
+        column = np.where(squeezed, local_pair * rows_of_source, 0) + local_source
         widths = {width, block.cols % width} - {0}
         out.append(
             Target(
@@ -205,6 +247,7 @@ def _targets(layout, table, pair_irreps, pair_local, npair_by_irrep, itemsize):
                 column=column,
                 sign=table.sign[members].astype(np.float64)[:, None, :],
                 width=width,
+                largest=largest,
                 offsets={w: _offsets(base, stride, column, w) for w in widths},
             )
         )
@@ -258,21 +301,25 @@ def build_blocked(h_alpha, h_beta, eri_aa, eri_ab, eri_bb, layout: BlockLayout) 
     for block in layout.blocks:
         ma, mb = layout.alpha.members(block.alpha_irrep), layout.beta.members(block.beta_irrep)
         parts.append((diag_a[ma][:, None] + diag_b[mb][None, :] + occ_a[ma] @ coulomb_ab @ occ_b[mb].T).ravel())
-    nent = alpha_table.sign.shape[1]
+    has_pairs = alpha_table.sign.shape[1] and beta_table.sign.shape[1]
+    alpha_sizes = [layout.alpha.size(g) for g in range(IRREPS)]
+    gathers = (
+        _beta_gather(beta_table, layout.beta, pair_irreps, pair_local, npair_by_irrep, alpha_sizes, layout.irrep)
+        if has_pairs
+        else {}
+    )
     return BlockedTwoString(
         layout=layout,
         dtype=dtype,
         h_alpha=ha,
         h_beta=hb,
-        pair_blocks=_pair_blocks(eri_ab, p, q, pair_irreps, dtype),
-        beta_gather=_beta_gather(beta_table, layout.beta, pair_irreps, pair_local, npair_by_irrep)
-        if beta_table.sign.shape[1]
-        else {},
-        targets=_targets(layout, alpha_table, pair_irreps, pair_local, npair_by_irrep, dtype.itemsize)
-        if nent and beta_table.sign.shape[1]
+        pair_blocks=tuple(np.ascontiguousarray(block.T) for block in _pair_blocks(eri_ab, p, q, pair_irreps, dtype)),
+        beta_gather=gathers,
+        targets=_targets(layout, alpha_table, pair_irreps, pair_local, npair_by_irrep, gathers, dtype.itemsize)
+        if has_pairs
         else (),
         diagonal=np.concatenate(parts),
-        nent=nent,
+        nent=alpha_table.sign.shape[1],
     )
 
 
@@ -282,7 +329,7 @@ def _buffers(op: BlockedTwoString, dtype) -> dict:
     key = np.dtype(dtype).str
     if key not in store:
         g = max((t.width * t.total for t in op.targets), default=0)
-        b = max((t.width * s.npair * s.rows for t in op.targets for s in t.sources), default=0)
+        b = max((t.width * t.largest for t in op.targets), default=0)
         x = max((t.width * t.rows * op.nent for t in op.targets), default=0)
         store[key] = (np.empty(b, dtype=dtype), np.empty(g, dtype=dtype), np.empty(x, dtype=dtype))
     return store[key]
@@ -352,20 +399,29 @@ def sigma_blocked(op: BlockedTwoString, c: np.ndarray) -> np.ndarray:
 
 def _alpha_beta_unit(op, sources, out_views, dtype, target: Target, start: int) -> None:
     width = min(target.width, target.cols - start)
+    stop = start + width
     b_buffer, g_buffer, x_buffer = _buffers(op, dtype)
     g = g_buffer[: width * target.total]
     for source in target.sources:
-        size = source.npair * width * source.rows
-        gathered = b_buffer[:size].reshape(source.npair, width, source.rows)
-        row, factor = op.beta_gather[(target.beta_irrep, source.gamma)]
-        np.take(sources[source.alpha_irrep], row[:, start : start + width], axis=0, out=gathered, mode="clip")
-        gathered *= factor[:, start : start + width]
-        region = g[width * source.prefix : width * source.prefix + size]
-        np.matmul(
-            op.pair_blocks[source.gamma],
-            gathered.reshape(source.npair, width * source.rows),
-            out=region.reshape(source.npair, width * source.rows),
-        )
+        row, factor, pair = op.beta_gather[(target.beta_irrep, source.gamma)]
+        region = g[width * source.prefix : width * (source.prefix + source.npair * source.rows)]
+        if pair is None:  # every pair of Γ: one product for the unit
+            gathered = b_buffer[: source.npair * width * source.rows].reshape(source.npair, width, source.rows)
+            np.take(sources[source.alpha_irrep], row[:, start:stop], axis=0, out=gathered, mode="clip")
+            gathered *= factor[:, start:stop]
+            np.matmul(
+                op.pair_blocks[source.gamma].T,
+                gathered.reshape(source.npair, width * source.rows),
+                out=region.reshape(source.npair, width * source.rows),
+            )
+            continue
+        excitations = row.shape[1]
+        gathered = b_buffer[: width * excitations * source.rows].reshape(width, excitations, source.rows)
+        np.take(sources[source.alpha_irrep], row[start:stop], axis=0, out=gathered, mode="clip")
+        gathered *= factor[start:stop]
+        # coupling[i, pq, k] = (pq|rs_k)_ab for the K excitations rs_k of beta string i
+        coupling = np.take(op.pair_blocks[source.gamma], pair[start:stop], axis=0).transpose(0, 2, 1)
+        np.matmul(coupling, gathered, out=region.reshape(width, source.npair, source.rows))
     rows = x_buffer[: target.rows * op.nent * width].reshape(target.rows, op.nent, width)
     np.take(g, target.offsets[width], out=rows, mode="clip")
-    out_views[target.block][:, start : start + width] += np.matmul(target.sign, rows)[:, 0, :]
+    out_views[target.block][:, start:stop] += np.matmul(target.sign, rows)[:, 0, :]

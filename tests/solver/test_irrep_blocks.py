@@ -20,6 +20,7 @@ from integrity.energies import solve as solve_hamiltonian
 from integrity.energies.solve import solver_arrays, spatial_irreps
 from integrity.errors import FieldError
 from integrity.io import load
+from integrity.solver import sigma_blocked as sigma_blocked_module
 from integrity.solver import solve_arrays
 from integrity.solver.davidson import davidson
 from integrity.solver.integrals import require_arrays
@@ -67,6 +68,22 @@ def test_blocked_sigma_is_the_projected_unblocked_sigma_for_random_irreps(n, dat
     want = layout.from_full(sigma_two_string(reference, layout.to_full(c)))
     assert np.allclose(sigma_blocked(op, c), want, atol=TOL, rtol=0)
     assert np.allclose(op.diagonal, layout.from_full(reference.diagonal), atol=TOL, rtol=0)
+
+
+@pytest.mark.parametrize("seed", range(6))
+def test_the_compressed_beta_gather_gives_the_same_sigma(seed, monkeypatch):
+    # Small problems use the plain gather; force the per-string (compressed) one.
+    monkeypatch.setattr(sigma_blocked_module, "COMPRESS_ROWS", 0)
+    rng = np.random.default_rng(seed)
+    n, n_alpha, n_beta = 7, 3, 2 + seed % 3
+    arrays = _arrays("restricted" if seed % 2 else "unrestricted", n, rng)
+    irreps = rng.integers(0, 4, n) if seed > 1 else None
+    layout = block_layout(n, n_alpha, n_beta, irreps, None if irreps is None else 1)
+    op = build_blocked(*arrays, layout)
+    assert any(pair is not None for _, _, pair in op.beta_gather.values())
+    c = rng.standard_normal(layout.size)
+    want = layout.from_full(sigma_two_string(build_two_string(*arrays, n_alpha, n_beta), layout.to_full(c)))
+    assert np.allclose(sigma_blocked(op, c), want, atol=TOL, rtol=0)
 
 
 @settings(max_examples=25, deadline=None)
