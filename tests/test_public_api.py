@@ -15,6 +15,7 @@ PACKAGES = [
     "integrity.checks",
     "integrity.energies",
     "integrity.solver",
+    "integrity.compare",
     "integrity.convert",
     "integrity.producers",
     "integrity.testing",

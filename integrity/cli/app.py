@@ -7,13 +7,15 @@ import click
 from integrity._version import __version__
 from integrity.cli.build import build
 from integrity.cli.check import check
+from integrity.cli.compare import compare
 from integrity.cli.convert import convert
 from integrity.cli.diagnose import diagnose
+from integrity.cli.reduce import reduce
 from integrity.cli.show import show
 from integrity.cli.solve import solve
 from integrity.cli.wrap import wrap
 
-COMMANDS = (check, show, solve, diagnose, convert, wrap, build)
+COMMANDS = (check, show, solve, diagnose, compare, convert, reduce, wrap, build)
 
 
 class _InOrder(click.Group):

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import click
 
-from integrity.cli.options import guarded, memory_option, overwrite_option
+from integrity.cli.options import ORBITAL_ORDER, ORBITAL_SIGNS, guarded, memory_option, overwrite_option
 from integrity.cli.render import conversion_text
 
 
@@ -20,6 +20,20 @@ from integrity.cli.render import conversion_text
     "--spin-layout", type=click.Choice(["interleaved", "blocked"]), help="Spin-orbital order (default interleaved)."
 )
 @click.option("--antisymmetrize", is_flag=True, help="Store <pq||rs> (spin-orbital, physicist; cannot be undone).")
+@click.option(
+    "--orbital-order",
+    type=ORBITAL_ORDER,
+    help="Orbital p of OUT is orbital ORDER[p]: 0-based indices, ranges allowed (2,0,1,3-6); alpha/beta lists "
+    "for unrestricted files.",
+)
+@click.option(
+    "--orbital-signs",
+    type=ORBITAL_SIGNS,
+    help="Multiply orbital p of OUT by SIGNS[p]: one + or - per orbital (+-++); alpha/beta for unrestricted files.",
+)
+@click.option(
+    "--exchange-spins", is_flag=True, help="Exchange alpha and beta (counts, blocks, occupations) before reordering."
+)
 @click.option(
     "--tolerance",
     type=float,
@@ -44,6 +58,9 @@ def convert(
     basis,
     spin_layout,
     antisymmetrize,
+    orbital_order,
+    orbital_signs,
+    exchange_spins,
     tolerance,
     overwrite,
     allow_loss,
@@ -53,15 +70,18 @@ def convert(
     """Convert IN into a new file OUT; the container follows OUT's extension (.h5, .hdf5, .json).
 
     Several steps in one call, applied in the order basis, spin layout,
-    notation, antisymmetrization, storage. A step that would lose information
-    is refused unless --allow-loss; the fingerprint changes only when the
-    Hamiltonian's content does (basis, layout, antisymmetrization).
+    notation, antisymmetrization, relabelling, storage. A step that would lose
+    information is refused unless --allow-loss; the fingerprint changes only
+    when the Hamiltonian's content does (basis, layout, antisymmetrization,
+    orbital order and signs). --orbital-order and --orbital-signs take the form
+    `integrity compare` prints: they refer to the orbitals of the result's basis.
 
     \b
     Examples:
       integrity convert h2.h5 h2.json
       integrity convert h2.h5 h2_so.json --basis spin-orbital --notation physicist --antisymmetrize
       integrity convert n2.h5 n2_packed.h5 --storage unique
+      integrity convert a.h5 a_as_b.h5 --orbital-order 0,3,1-2 --orbital-signs +-++
     """
     from integrity.convert import convert_file
 
@@ -75,6 +95,9 @@ def convert(
         basis=basis,
         spin_layout=spin_layout,
         antisymmetrize=antisymmetrize,
+        orbital_order=orbital_order,
+        orbital_signs=orbital_signs,
+        exchange_spins=exchange_spins,
         allow_loss=allow_loss,
         accept_checksum_mismatch=accept_checksum_mismatch,
         tolerance=tolerance,

@@ -14,8 +14,9 @@ import math
 
 import click
 
-from integrity.errors import IntegrityError
+from integrity.errors import FieldError, IntegrityError
 from integrity.io import DEFAULT_MEMORY, parse_bytes
+from integrity.model.orbital_lists import parse_orbital_list, parse_per_spin, parse_signs
 
 EXIT_OK, EXIT_FAILED, EXIT_UNUSABLE, EXIT_INTERRUPTED = 0, 1, 2, 130
 ENGINES = ("native", "pyscf", "both")
@@ -69,6 +70,31 @@ class MemorySize(click.ParamType):
 
 
 MEMORY = MemorySize()
+
+
+class OrbitalText(click.ParamType):
+    """An orbital list (``0-3,7``), an orbital order, or signs (``+-+``); orders and signs may
+    be given per spin as ``alpha/beta``. Parsed by :mod:`integrity.model.orbital_lists`."""
+
+    def __init__(self, kind: str):
+        self.kind = kind
+        self.name = {"list": "list", "order": "order", "signs": "signs"}[kind]
+
+    def convert(self, value, param, ctx):
+        if not isinstance(value, str):
+            return value
+        try:
+            if self.kind == "list":
+                return parse_orbital_list(value, self.name)
+            parse = parse_signs if self.kind == "signs" else parse_orbital_list
+            return parse_per_spin(value, parse, self.name)
+        except FieldError as err:
+            self.fail(err.reason, param, ctx)
+
+
+ORBITAL_LIST = OrbitalText("list")
+ORBITAL_ORDER = OrbitalText("order")
+ORBITAL_SIGNS = OrbitalText("signs")
 
 
 def parse_tolerances(ctx, param, values) -> dict[str, float]:

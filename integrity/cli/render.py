@@ -7,6 +7,7 @@ Text is one line per fact; a JSON document is ``json.dumps`` of a result's
 from __future__ import annotations
 
 import json
+from pathlib import Path
 
 
 def as_json(document) -> str:
@@ -108,9 +109,26 @@ def conversion_text(result, out_path) -> str:
     for step in result.steps:
         dropped = f", dropped up to {step['dropped_max_deviation']:.3g}" if "dropped_max_deviation" in step else ""
         changed = " (new fingerprint)" if step.get("fingerprint_changed") else ""
-        lines.append(f"{step['step']}: {step['from']} -> {step['to']}{dropped}{changed}")
+        signs = f", signs {step['signs']}" if "signs" in step else ""
+        signs += ", alpha and beta exchanged" if step.get("exchange_spins") else ""
+        lines.append(f"{step['step']}: {step['from']} -> {step['to']}{signs}{dropped}{changed}")
+        if step["step"] == "reduce":
+            lines += _reduce_details(step)
     lines.append(f"wrote {out_path} ({result.hamiltonian.checksum})")
     return "\n".join(lines)
+
+
+def _reduce_details(step) -> list[str]:
+    """The orbitals a reduce step froze, kept and discarded, the energy folded in, the references."""
+    lines = [f"  frozen {step['frozen']}, active {step['active']}, discarded {step.get('discarded', 'none')}"]
+    lines.append(f"  frozen-core energy {step['frozen_core_energy']:.12g} hartree added to core_energy")
+    for label, orbitals in step.get("open_frozen", {}).items():
+        lines.append(f"  frozen although not filled in {label}: {orbitals} (allowed; that reference was dropped)")
+    if step.get("dropped_references"):
+        lines.append(f"  references dropped (they belong to the old space): {', '.join(step['dropped_references'])}")
+    if step.get("recomputed_references"):
+        lines.append(f"  references recomputed by full CI: {', '.join(step['recomputed_references'])}")
+    return lines
 
 
 def diagnosis_text(diagnosis, path: str) -> str:
@@ -176,4 +194,87 @@ def summary_text(path: str, summary: dict) -> str:
     for i, ref in enumerate(summary["references"]):
         extra = "".join(f", {k} {ref[k]}" for k in ("two_s", "irrep", "root", "electrons") if k in ref)
         row("references" if i == 0 else "", f"{ref['label']}: {ref['method']} {ref['energy']:.10f} hartree{extra}")
+    return "\n".join(lines)
+
+
+def _yes_no(holds) -> str:
+    return {True: "yes", False: "no", None: "undecided"}[holds]
+
+
+def relabel_command(comparison, out_name: str | None = None) -> str:
+    """The ``integrity convert`` call that makes A look like B, from a comparison's relabelling."""
+    relabelling, side = comparison.relabelling, comparison.a
+    path = Path(side.label)
+    out_name = out_name or f"{path.stem}_relabelled{path.suffix or '.h5'}"
+    words = ["integrity convert", side.label, out_name]
+    if relabelling.basis != side.basis:
+        words += ["--basis", relabelling.basis]
+    if relabelling.spin_layout is not None:
+        words += ["--spin-layout", relabelling.spin_layout]
+    words += ["--orbital-order", relabelling.order_text, "--orbital-signs", relabelling.signs_text]
+    if relabelling.exchange_spins:
+        words.append("--exchange-spins")
+    return " ".join(words)
+
+
+def _side_text(name, side) -> str:
+    return (
+        f"{name}  {side.label}: {side.orbitals} {side.basis} orbitals, {side.alpha} alpha {side.beta} beta, "
+        f"core energy {side.core_energy:.10g}, {side.notation} {side.storage} ({side.fingerprint[:19]}...)"
+    )
+
+
+def _energy_rows(energies) -> list[str]:
+    lines = [f"  {'':<12}{'A / hartree':>20}{'B / hartree':>20}{'B - A':>12}"]
+    count = max(len(energies.fci_a or ()), len(energies.fci_b or ()))
+    for index in range(count):
+        a = energies.fci_a[index] if energies.fci_a and index < len(energies.fci_a) else None
+        b = energies.fci_b[index] if energies.fci_b and index < len(energies.fci_b) else None
+        lines.append(_energy_row(f"fci root {index}", a, b))
+    lines.append(_energy_row("hf", energies.hf_a, energies.hf_b))
+    return lines
+
+
+def _energy_row(name, a, b) -> str:
+    def cell(value):
+        return f"{'-':>20}" if value is None else f"{value:>20.10f}"
+
+    gap = "-" if a is None or b is None else f"{b - a:.2e}"
+    return f"  {name:<12}{cell(a)}{cell(b)}{gap:>12}"
+
+
+def comparison_text(comparison) -> str:
+    """The verdict, each rung tried with its evidence, then the relabelling, constant, energies, reasons."""
+    verdict = "equivalent" if comparison.equivalent else "not equivalent"
+    lines = [
+        _side_text("A", comparison.a),
+        _side_text("B", comparison.b),
+        f"rung {comparison.rung} of 6: {comparison.title} ({verdict}; --accept {comparison.accept}, "
+        f"tolerance {comparison.tolerance:g})",
+    ]
+    if comparison.common_form:
+        lines.append(f"  compared as {comparison.common_form}")
+    for step in comparison.steps:
+        lines.append(f"  {step.rung} {step.name:<10} {_yes_no(step.holds):<9} {step.evidence}")
+    relabelling = comparison.relabelling
+    if relabelling is not None and not relabelling.is_identity:
+        exchange = ", after exchanging alpha and beta" if relabelling.exchange_spins else ""
+        lines += [
+            f"relabelling: B's orbital p is A's orbital order[p] times signs[p]{exchange} "
+            f"({relabelling.basis} orbitals{', alpha/beta' if '/' in relabelling.order_text else ''})",
+            f"  order  {relabelling.order_text}",
+            f"  signs  {relabelling.signs_text}",
+            f"  apply  {relabel_command(comparison)}",
+        ]
+    if comparison.constant is not None:
+        lines.append(f"constant: B - A = {comparison.constant.difference:.12g} hartree")
+        lines += [f"  {text}" for text in comparison.constant.named]
+    if comparison.energies is not None:
+        lines.append("energies:")
+        lines += _energy_rows(comparison.energies)
+        lines += [f"  note: {note}" for note in comparison.energies.notes]
+    if comparison.reasons:
+        lines.append("likeliest reasons:")
+        lines += [f"  - {reason}" for reason in comparison.reasons]
+    lines += [f"note: {note}" for note in comparison.notes]
     return "\n".join(lines)

@@ -10,11 +10,14 @@ records what it dropped), and leaves the energy unchanged. See
 * :func:`convert_notation`, :func:`convert_storage`, :func:`convert_basis`,
   :func:`convert_spin_layout`, :func:`antisymmetrize` are the single steps.
 
+* :func:`reduce_active_space` (and :func:`reduce_file`) cut an active space out
+  of a larger Hamiltonian, folding frozen orbitals into the constants.
+
 All return a :class:`ConversionResult` (the Hamiltonian and the history
 entries appended to its ``provenance.history``).
 """
 
-from integrity.convert.files import convert_file
+from integrity.convert.files import convert_file, reduce_file
 from integrity.convert.pipeline import (
     ConversionResult,
     Target,
@@ -26,6 +29,7 @@ from integrity.convert.pipeline import (
     convert_storage,
     plan,
 )
+from integrity.convert.reduce import reduce_active_space
 
 __all__ = [
     "ConversionResult",
@@ -38,4 +42,6 @@ __all__ = [
     "convert_spin_layout",
     "convert_storage",
     "plan",
+    "reduce_active_space",
+    "reduce_file",
 ]

@@ -1,4 +1,5 @@
-"""``convert_file``: read a file, convert it, write another (HDF5 or JSON by extension).
+"""``convert_file`` and ``reduce_file``: read a file, convert it (or cut an active space out of it),
+write another (HDF5 or JSON by extension).
 
 The input is never overwritten: an output that resolves to the input file
 (the same path, a symbolic link to it, or a hard link) is refused even with
@@ -27,6 +28,7 @@ from pathlib import Path
 
 from integrity.convert.history import dated, step_entry, with_history
 from integrity.convert.pipeline import ConversionResult, convert
+from integrity.convert.reduce import reduce_active_space
 from integrity.errors import IntegrityError, RefusedError
 from integrity.io import DEFAULT_MEMORY, container_of, load, save
 from integrity.model.fingerprint import fingerprint
@@ -51,6 +53,44 @@ def convert_file(
     Returns the result as written (its ``hamiltonian.checksum`` is the one
     stored in ``out_path``). ``memory`` bounds what the input may declare.
     """
+    return transform_file(
+        in_path, out_path, lambda ham: convert(ham, date=date, **steps), overwrite=overwrite, memory=memory, date=date
+    )
+
+
+def reduce_file(
+    in_path,
+    out_path,
+    *,
+    frozen=(),
+    active=None,
+    overwrite: bool = False,
+    memory: int = DEFAULT_MEMORY,
+    date: str | None = None,
+    **options,
+) -> ConversionResult:
+    """Cut an active space out of the file ``in_path`` into ``out_path`` (see :mod:`integrity.convert.reduce`);
+    ``options`` are :func:`reduce_active_space`'s keywords."""
+    return transform_file(
+        in_path,
+        out_path,
+        lambda ham: reduce_active_space(ham, frozen, active, date=date, memory=memory, **options),
+        overwrite=overwrite,
+        memory=memory,
+        date=date,
+    )
+
+
+def transform_file(
+    in_path, out_path, transform, *, overwrite: bool = False, memory: int = DEFAULT_MEMORY, date: str | None = None
+) -> ConversionResult:
+    """Read ``in_path``, apply ``transform`` (Hamiltonian -> ConversionResult), write ``out_path``.
+
+    The guards of every command that writes a new file from an old one: the
+    output is never the input (not even with ``overwrite``), an existing output
+    is kept unless ``overwrite``, the write is atomic, and a container change
+    is one more history entry.
+    """
     in_path, out_path = Path(in_path), Path(out_path)
     if _same_file(in_path, out_path):
         raise RefusedError(
@@ -62,7 +102,7 @@ def convert_file(
     source, target = container_of(in_path), container_of(out_path)
     ham = load(in_path, memory=memory)
     try:
-        result = convert(ham, date=date, **steps)
+        result = transform(ham)
     except IntegrityError as err:
         raise err.in_file(in_path) from None
     written, entries = result.hamiltonian, list(result.steps)

@@ -1,7 +1,7 @@
 """``convert``: several conversion steps in one call, in a fixed order.
 
 Order: (storage -> dense, when a later step needs dense arrays), basis,
-spin layout, notation, antisymmetrization, storage. Every step is exact
+spin layout, notation, antisymmetrization, relabelling, storage. Every step is exact
 (values copied or permuted, never recomputed) except
 
 * packing (dense -> pairs -> unique), which drops the elements it assumes
@@ -10,6 +10,11 @@ spin layout, notation, antisymmetrization, storage. Every step is exact
   which drop blocks they assume zero or equal: refused likewise;
 * antisymmetrization, <pq||rs> = <pq|rs> - <pq|sr>, which cannot be undone:
   converting an antisymmetrized file back to plain integrals is refused.
+
+A relabelling of the orbitals (``orbital_order``, ``orbital_signs``,
+``exchange_spins``; see :mod:`integrity.convert.orbital_order`) is applied
+after the notation step, so its indices are those of the result's orbitals
+(its basis and spin layout), before the storage step packs the result.
 
 Arguments left None keep what the input has; a storage the target cannot
 use (e.g. ``pairs`` after a change to physicist) becomes ``dense``. A
@@ -44,6 +49,7 @@ from dataclasses import dataclass
 from integrity.convert.bitwise import native, same_bits
 from integrity.convert.history import dated, step_entry, with_history
 from integrity.convert.metadata import layout_permutation, map_references, relabelled_irreps, relabelled_occupation
+from integrity.convert.orbital_order import relabel_step
 from integrity.convert.reindex import NOTATION_SWAP, antisymmetrize_in_place, reindexed, spin_split
 from integrity.convert.spin_orbital import to_spin_orbital_step, to_unrestricted_step
 from integrity.convert.spin_separation import from_spin_orbital_step, to_restricted_step
@@ -166,7 +172,7 @@ def plan(
     )
 
 
-def _checksum_step(ham: Hamiltonian, accept_mismatch: bool) -> list[dict]:
+def checksum_entries(ham: Hamiltonian, accept_mismatch: bool) -> list[dict]:
     """Refuse (unless accepted) a Hamiltonian whose stored checksum is not its fingerprint."""
     if ham.checksum is None:
         return []
@@ -271,6 +277,9 @@ def convert(
     basis: str | None = None,
     spin_layout: str | None = None,
     antisymmetrize: bool = False,
+    orbital_order=None,
+    orbital_signs=None,
+    exchange_spins: bool = False,
     allow_loss: bool = False,
     accept_checksum_mismatch: bool = False,
     tolerance: float = 1e-10,
@@ -282,6 +291,10 @@ def convert(
     "unique"; ``basis``: "restricted", "unrestricted" or "spin-orbital";
     ``spin_layout``: "interleaved" or "blocked"; ``antisymmetrize``: store
     <pq||rs> (spin-orbital physicist only; False keeps what the input has);
+    ``orbital_order``, ``orbital_signs``: orbital p of the result is orbital
+    ``orbital_order[p]`` times ``orbital_signs[p]`` (one list, or alpha and beta
+    lists for an unrestricted result); ``exchange_spins``: exchange alpha and beta
+    first (see :mod:`integrity.convert.orbital_order`);
     ``allow_loss``: do lossy steps beyond ``tolerance`` (absolute, hartree),
     noting in the history what was dropped; ``accept_checksum_mismatch``:
     convert a Hamiltonian whose checksum is not its fingerprint (noted in the
@@ -307,10 +320,12 @@ def convert(
         spin_layout=spin_layout,
         antisymmetrize=antisymmetrize,
     )
-    entries = _checksum_step(ham, accept_checksum_mismatch)
+    entries = checksum_entries(ham, accept_checksum_mismatch)
     two = ham.two_electron
+    relabel = orbital_order is not None or orbital_signs is not None or exchange_spins
     needs_dense = (
-        target.basis != ham.basis
+        relabel
+        or target.basis != ham.basis
         or target.spin_layout != ham.orbitals.spin_layout
         or target.notation != two.notation
         or target.antisymmetrized != bool(two.antisymmetrized)
@@ -322,6 +337,8 @@ def convert(
     current, found = _basis_step(current, target, allow_loss, tolerance)
     entries += found
     current, found = _reindex_step(current, target, owned=current is not ham)
+    entries += found
+    current, found = relabel_step(current, orbital_order, orbital_signs, exchange_spins)
     entries += found
     current, entry = storage_step(current, target.storage, allow_loss=allow_loss, tolerance=tolerance)
     if entry is not None:

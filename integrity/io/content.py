@@ -1,6 +1,6 @@
 """The logical content of a file, shared by both containers.
 
-Content is a plain dict with the keys of format.md, as a JSON document has
+Content is a plain dict with the keys of docs/format.md, as a JSON document has
 them, except that arrays are NumPy arrays (or lazy HDF5 datasets),
 ``two_electron`` holds its array under ``"array"``, ``references`` is a list
 of dicts with their ``label``, and ``orbitals.irreps`` and occupations are

@@ -63,6 +63,13 @@ def _require_identity(document: Document) -> None:
             document.path,
         )
     version = tree.get("format_version")
+    if isinstance(version, float) and version == FORMAT_VERSION:
+        # 1.0 would pass as 1 but change the fingerprint's header (docs/format.md, fingerprint)
+        raise ContainerError(
+            document.locate(("format_version",)),
+            f"expected the integer {FORMAT_VERSION}, got {version!r}; write the version without a fraction",
+            document.path,
+        )
     if version != FORMAT_VERSION or isinstance(version, bool):
         raise ContainerError(
             document.locate(("format_version",)),

@@ -1,6 +1,6 @@
 """The HDF5 container (h5py).
 
-Layout (format.md): root attributes ``format``, ``format_version``,
+Layout (docs/format.md): root attributes ``format``, ``format_version``,
 ``energy_unit``, ``title``, ``core_energy``, ``checksum``; groups
 ``orbitals`` (attributes, dataset ``irreps``), ``electrons``,
 ``core_energy_parts``, ``references/<label>`` (attributes; groups

@@ -27,7 +27,11 @@ import jsonschema
 from jsonschema import ValidationError
 from referencing import Registry, Resource
 
-SCHEMA_FILES = {"hamiltonian": "hamiltonian.schema.json", "report": "report.schema.json"}
+SCHEMA_FILES = {
+    "hamiltonian": "hamiltonian.schema.json",
+    "report": "report.schema.json",
+    "comparison": "comparison.schema.json",
+}
 _BULK_THRESHOLD = 256
 _short = reprlib.Repr()
 _short.maxstring = 60

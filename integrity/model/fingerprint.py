@@ -1,4 +1,4 @@
-"""The fingerprint of a Hamiltonian, exactly as format.md defines it.
+"""The fingerprint of a Hamiltonian, exactly as docs/format.md defines it.
 
 ``sha256:`` + SHA-256 hex digest of, in order:
 

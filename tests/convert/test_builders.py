@@ -4,7 +4,7 @@ Relations: the real 8-fold group as in Helgaker, Jorgensen, Olsen, *Molecular
 Electronic-Structure Theory* (2000), ch. 9 (cited from memory, as in
 integrity/checks/relations.py; the equation number is not re-checked here);
 the complex 4-fold group and the unrestricted ab block follow from the
-integrals' definitions in format.md (derived in builders).
+integrals' definitions in docs/format.md (derived in builders).
 """
 
 from __future__ import annotations

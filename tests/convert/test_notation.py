@@ -1,4 +1,4 @@
-"""Chemist <-> physicist: <pq|rs> = (pr|qs), the definition in format.md (two_electron.notation)."""
+"""Chemist <-> physicist: <pq|rs> = (pr|qs), the definition in docs/format.md (two_electron.notation)."""
 
 from __future__ import annotations
 

@@ -1,6 +1,6 @@
 """Dense <-> pairs <-> unique: held to pyscf, to plain loops, and to the refusals it promises.
 
-Pair index p(p+1)/2 + q and the unique lower triangle come from format.md;
+Pair index p(p+1)/2 + q and the unique lower triangle come from docs/format.md;
 pyscf's ``ao2mo.restore`` (symmetry 1, 4, 8) uses the same packing and is the
 outside reference here.
 """

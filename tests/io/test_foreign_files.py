@@ -1,4 +1,4 @@
-"""Files written by other groups' code, following format.md with plain h5py and json, load.
+"""Files written by other groups' code, following docs/format.md with plain h5py and json, load.
 
 The writers are in plain_format (``write_plain_hdf5``, ``write_plain_json``);
 nothing here uses integrity's own writer.

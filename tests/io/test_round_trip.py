@@ -1,4 +1,4 @@
-"""HDF5 -> JSON -> HDF5 is bit-exact (format.md, JSON container)."""
+"""HDF5 -> JSON -> HDF5 is bit-exact (docs/format.md, JSON container)."""
 
 from __future__ import annotations
 

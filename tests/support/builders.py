@@ -1,6 +1,6 @@
 """Random valid Hamiltonians and bit-for-bit comparisons for the conversion tests.
 
-Written from format.md, not from the library: pair indices, the spin-orbital
+Written from docs/format.md, not from the library: pair indices, the spin-orbital
 index maps and the symmetric arrays are built with plain loops, so they can
 judge the library's fast paths.
 
@@ -38,7 +38,7 @@ def seeded(text: str) -> np.random.Generator:
     return np.random.default_rng(zlib.crc32(text.encode()))
 
 
-# ---------------------------------------------------------------- indices (format.md)
+# ---------------------------------------------------------------- indices (docs/format.md)
 
 
 def pair(p: int, q: int) -> int:
@@ -52,7 +52,7 @@ def n_pairs(n: int) -> int:
 
 
 def spin_orbital(p: int, s: int, n: int, layout: str) -> int:
-    """format.md: interleaved a0 b0 a1 b1 ... = 2p + s; blocked (all alpha, then beta) = p + s n."""
+    """docs/format.md: interleaved a0 b0 a1 b1 ... = 2p + s; blocked (all alpha, then beta) = p + s n."""
     return 2 * p + s if layout == "interleaved" else p + s * n
 
 
@@ -82,7 +82,7 @@ def dense_of_pair_matrix(matrix: np.ndarray, n: int) -> np.ndarray:
 
 
 def lower_triangle(matrix: np.ndarray) -> np.ndarray:
-    """format.md unique storage: the lower triangle of the pair matrix, row by row."""
+    """docs/format.md unique storage: the lower triangle of the pair matrix, row by row."""
     size = matrix.shape[0]
     return np.array([matrix[i, j] for i in range(size) for j in range(i + 1)], dtype=matrix.dtype)
 

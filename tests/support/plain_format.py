@@ -1,6 +1,6 @@
 """Shared helpers of the foundation tests.
 
-Everything here is written from format.md, not from the library: shapes, pair
+Everything here is written from docs/format.md, not from the library: shapes, pair
 indices, and two plain writers (``json`` and ``h5py``) that produce files the
 way another group would. The comparison helpers compare bit for bit.
 """
@@ -25,7 +25,7 @@ from integrity.model.hamiltonian import Electrons, Hamiltonian, Orbitals, Refere
 BASES = ("restricted", "unrestricted", "spin-orbital")
 LAYOUTS = ("interleaved", "blocked")
 NOTATIONS = ("chemist", "physicist")
-#: irreps of each abelian point group the format allows (format.md)
+#: irreps of each abelian point group the format allows (docs/format.md)
 GROUP_ORDER = {"C1": 1, "Ci": 2, "C2": 2, "Cs": 2, "C2v": 4, "C2h": 4, "D2": 4, "D2h": 8}
 
 #: floats that a careless writer or reader changes: signed zero, subnormals, extremes,
@@ -70,7 +70,7 @@ def n_pairs(n: int) -> int:
 
 
 def pair(p: int, q: int) -> int:
-    """format.md: the pair index of p >= q is p(p+1)/2 + q (either order here)."""
+    """docs/format.md: the pair index of p >= q is p(p+1)/2 + q (either order here)."""
     p, q = max(p, q), min(p, q)
     return p * (p + 1) // 2 + q
 
@@ -89,7 +89,7 @@ def two_shape(basis: str, n: int, storage: str) -> tuple[int, ...]:
 
 
 def allowed_storages(basis: str, notation: str, is_complex: bool) -> list[str]:
-    """format.md: packed storage needs chemist notation and real values; no unique unrestricted."""
+    """docs/format.md: packed storage needs chemist notation and real values; no unique unrestricted."""
     out = ["dense"]
     if notation == "chemist" and not is_complex:
         out.append("pairs")
@@ -128,7 +128,7 @@ def unique_from_pairs_slow(pairs: np.ndarray) -> np.ndarray:
 def dense_chemist_slow(
     array: np.ndarray, basis: str, n: int, notation: str, storage: str, antisymmetrized: bool = False
 ) -> np.ndarray:
-    """The two-electron array as dense chemist (the fingerprint's part 4), from format.md."""
+    """The two-electron array as dense chemist (the fingerprint's part 4), from docs/format.md."""
     blocks = list(array) if basis == "unrestricted" else [array]
     out = []
     for block in blocks:
@@ -412,7 +412,7 @@ def random_tree(
     optional=True,
     wide=True,
 ) -> dict:
-    """A valid file's content as format.md lists it; arrays as NumPy arrays.
+    """A valid file's content as docs/format.md lists it; arrays as NumPy arrays.
 
     ``two_electron`` holds its array under ``"array"`` beside its attributes;
     ``references`` is a list of entries with their ``label``. ``wide`` values span
@@ -530,7 +530,7 @@ def hamiltonian_from_tree(tree: dict) -> Hamiltonian:
 
 
 def encode_json_array(array: np.ndarray, *, complex_as_pairs=None) -> dict:
-    """format.md: {"shape", "data"} in C order, or {"shape", "real", "imag"} when complex."""
+    """docs/format.md: {"shape", "data"} in C order, or {"shape", "real", "imag"} when complex."""
     array = np.asarray(array)
     flat = array.reshape(-1)
     if array.dtype.kind == "c":
@@ -572,7 +572,7 @@ def write_plain_hdf5(
     compression: str | None = None,
     track_order: bool | None = None,
 ) -> None:
-    """Write a tree with plain h5py, following format.md's HDF5 container section."""
+    """Write a tree with plain h5py, following docs/format.md's HDF5 container section."""
 
     def attr(obj, key, value):
         if isinstance(value, str):
@@ -673,7 +673,7 @@ def _decode_json_array(node: dict) -> np.ndarray:
 
 
 def recipe_fingerprint(path: Path) -> str:
-    """format.md's fingerprint of a JSON file, with json, struct, hashlib and NumPy only."""
+    """docs/format.md's fingerprint of a JSON file, with json, struct, hashlib and NumPy only."""
     doc = json.loads(path.read_text(encoding="utf-8"))
     orb = doc["orbitals"]
     header = {
