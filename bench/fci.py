@@ -25,6 +25,7 @@ solve caused); ``estimate`` is the native memory estimate made before the solve.
     python bench/fci.py --sections n2       # one or more sections (n2 loaded large water)
     python bench/fci.py --sizes 8 10 12     # N2 sizes (default 8 10 12 14)
     python bench/fci.py --quick             # CAS(8,8) only
+    python bench/fci.py --sections loaded --loaded-size 12   # the loaded comparison at CAS(12,12)
 """
 
 from __future__ import annotations
@@ -63,14 +64,14 @@ def _casci(mf, mol, n_active, n_electrons, folder: Path, name: str, frozen=None)
     np.savez(folder / f"{name}.npz", h1=h1, eri=eri, ecore=ecore, n=n_active, electrons=n_electrons, irreps=irreps)
 
 
-def build_integrals(folder: Path, sizes, sections) -> None:
+def build_integrals(folder: Path, sizes, sections, loaded: int = 14) -> None:
     """Write h1, eri (chemist, dense), ecore and orbital irreps of every problem to ``folder``."""
     from pyscf import gto, scf
 
     if "n2" in sections or "loaded" in sections:
         mol = gto.M(atom="N 0 0 0; N 0 0 1.098", basis="cc-pvdz", unit="angstrom", symmetry="d2h", verbose=0)
         mf = scf.RHF(mol).run()
-        for n in sorted(set(sizes) | ({14} if "loaded" in sections else set())):
+        for n in sorted(set(sizes) | ({loaded} if "loaded" in sections else set())):
             _casci(mf, mol, n, n, folder, f"n2_cas{n}")
     if "large" in sections:
         mol = gto.M(
@@ -180,11 +181,11 @@ def section_n2(folder: Path, sizes) -> dict:
     return ratios
 
 
-def section_loaded(folder: Path, quiet_ratio) -> None:
-    path = folder / "n2_cas14.npz"
+def section_loaded(folder: Path, quiet_ratio, size: int = 14) -> None:
+    path = folder / f"n2_cas{size}.npz"
     if quiet_ratio is None:
         ours, theirs = run("native", path), run("pyscf", path)
-        print(_row("CAS(14,14) plain, quiet", ours, theirs), flush=True)
+        print(_row(f"CAS({size},{size}) plain, no extra", ours, theirs), flush=True)
         quiet_ratio = ours["time"] / theirs["time"]
     busy = subprocess.Popen([sys.executable, "-c", BUSY_LOOP])
     try:
@@ -193,7 +194,7 @@ def section_loaded(folder: Path, quiet_ratio) -> None:
     finally:
         busy.kill()
         busy.wait()
-    print(_row("CAS(14,14) plain, loaded", ours, theirs), flush=True)
+    print(_row(f"CAS({size},{size}) plain, +1 busy", ours, theirs), flush=True)
     loaded = ours["time"] / theirs["time"]
     print(f"loaded ratio {loaded:.2f} against quiet {quiet_ratio:.2f}: {loaded / quiet_ratio:.2f}x", flush=True)
 
@@ -241,6 +242,7 @@ def main() -> None:
     parser.add_argument("--sections", nargs="+", default=["n2", "loaded", "large", "water"])
     parser.add_argument("--sizes", nargs="+", type=int, default=[8, 10, 12, 14])
     parser.add_argument("--quick", action="store_true", help="CAS(8,8) only")
+    parser.add_argument("--loaded-size", type=int, default=14, help="CAS(n,n) of the loaded comparison")
     parser.add_argument("--worker", nargs=4, help=argparse.SUPPRESS)
     args = parser.parse_args()
     if args.worker:
@@ -252,10 +254,10 @@ def main() -> None:
     print(f"load average at start: {os.getloadavg()[0]:.2f} on {os.cpu_count()} cores", flush=True)
     with tempfile.TemporaryDirectory() as tmp:
         folder = Path(tmp)
-        build_integrals(folder, sizes, sections)
+        build_integrals(folder, sizes, sections, args.loaded_size)
         ratios = section_n2(folder, sizes) if "n2" in sections else {}
         if "loaded" in sections:
-            section_loaded(folder, ratios.get(14))
+            section_loaded(folder, ratios.get(args.loaded_size), args.loaded_size)
         if "large" in sections:
             section_large(folder)
         if "water" in sections:
