@@ -118,7 +118,7 @@ class BlockedTwoString:
 
 
 def unit_scratch_bytes(rows: int, nent: int, total: int, largest_source: int, width: int, itemsize: int) -> int:
-    """Scratch of one alpha-beta unit: G (total), B (largest npair * na_s), rows and offsets."""
+    """Scratch of one alpha-beta unit per beta string: G (total), B (largest K_Γ * na_s), gathered rows, offsets."""
     return width * ((total + largest_source + rows * nent) * itemsize + rows * nent * 8)
 
 
