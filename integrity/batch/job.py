@@ -121,5 +121,7 @@ def settings_of(job_options: CheckOptions, foreign: str) -> dict[str, Any]:
         "engine": job_options.engine,
         "strict": bool(job_options.strict),
         "fingerprint": bool(job_options.fingerprint),
+        "convergence": float(job_options.convergence),
+        "max_iterations": int(job_options.max_iterations),
         "foreign": foreign,
     }

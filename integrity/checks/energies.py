@@ -135,7 +135,15 @@ def _engines(ctx):
 
 
 def _solve_one(ham, ref, engine, ctx):
-    result = solve_reference(ham, ref, engine=engine, memory=ctx.memory)
+    result = solve_reference(
+        ham,
+        ref,
+        engine=engine,
+        memory=ctx.memory,
+        tol=ctx.convergence,
+        max_iter=ctx.max_iterations,
+        progress=ctx.progress if engine == "native" else None,
+    )
     state = result.roots[0]
     return {
         "engine": engine,
@@ -193,6 +201,20 @@ def check_fci(ham, ctx) -> Result:
     details = {"references": rows}
     value, limit, ref, first, difference, kind = max(problems, key=lambda item: item[0] - item[1])
     found = f"2S = {first['two_s']}" if first["two_s"] is not None else "2S undetermined"
+    unconverged = [(row, s) for row in rows for s in row["solutions"] if not s["converged"]]
+    if unconverged:  # the energy is not the full-CI one: neither a pass nor a failure can be claimed
+        row, solution = max(unconverged, key=lambda item: item[1]["residual"])
+        iterations = "" if solution["iterations"] is None else f" after {solution['iterations']} iterations"
+        return warned(
+            f"reference {row['label']!r}: full CI ({solution['engine']}) did not converge: residual norm "
+            f"{solution['residual']:.2e}{iterations}, energy {solution['energy']:.10f} "
+            f"({_difference_text(row['difference'])}, limit {figure(row['tolerance'])}); "
+            "raise --max-iterations or loosen --convergence",
+            value=abs(row["difference"]),
+            limit=row["tolerance"],
+            where=at_field(f"references[{row['label']}]"),
+            details=details,
+        )
     if value <= limit:
         engines = " and ".join(_engines(ctx))
         text = f"{len(rows)} fci reference(s) reproduced by {engines}; largest |difference| {figure(value)}"

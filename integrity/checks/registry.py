@@ -182,8 +182,8 @@ def judged(bad: bool, message: str, **figures) -> Result:
 @dataclass(frozen=True)
 class Context:
     """What a check may use besides the Hamiltonian: its limit, the memory
-    budget (bytes), the FCI engine, and the opened document (or None when
-    the Hamiltonian came from memory)."""
+    budget (bytes), the FCI engine and its settings, and the opened document
+    (or None when the Hamiltonian came from memory)."""
 
     limit: float | None
     memory: int = DEFAULT_MEMORY
@@ -191,6 +191,11 @@ class Context:
     document: Any = None
     box_bytes: int = 2**20
     build_error: Any = None
+    #: full-CI settings: energy accuracy (hartree), Davidson iterations, and a
+    #: callable taking each :class:`~integrity.solver.SolveProgress` (or None)
+    convergence: float = 1e-9
+    max_iterations: int = 200
+    progress: Callable | None = None
     #: results shared between checks of one run (e.g. symmetry deviations)
     cache: dict = field(default_factory=dict, compare=False)
 

@@ -15,8 +15,9 @@ check's ``fail``; the others still run.
 
 from __future__ import annotations
 
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field, replace
+from functools import partial
 
 import numpy as np
 
@@ -40,7 +41,11 @@ class CheckOptions:
     out; ``tolerances`` maps a check id to its limit; ``memory`` is the budget
     in bytes; ``engine`` the full-CI engine (``native``, ``pyscf`` or
     ``both``); ``strict`` makes a warning fail the file; ``fingerprint`` puts
-    the fingerprint in the report even when the checksum check did not run.
+    the fingerprint in the report even when the checksum check did not run;
+    ``convergence`` and ``max_iterations`` go to the full-CI solver;
+    ``progress(path, check_id, update)`` is called as each check starts
+    (``update`` None) and with every :class:`~integrity.solver.SolveProgress`
+    of a solve inside it.
     """
 
     only: tuple[str, ...] | None = None
@@ -50,6 +55,9 @@ class CheckOptions:
     engine: str = "native"
     strict: bool = False
     fingerprint: bool = True
+    convergence: float = 1e-9
+    max_iterations: int = 200
+    progress: Callable | None = None
 
     def __post_init__(self):
         object.__setattr__(self, "only", None if self.only is None else tuple(self.only))
@@ -124,6 +132,8 @@ def _judge(ham, path, ids, options: CheckOptions, *, document=None, build_error=
         document=document,
         box_bytes=box_bytes,
         build_error=build_error,
+        convergence=options.convergence,
+        max_iterations=options.max_iterations,
     )
     results: list[Result] = []
     finite = None
@@ -131,6 +141,9 @@ def _judge(ham, path, ids, options: CheckOptions, *, document=None, build_error=
         for check_id in ids:
             spec = REGISTRY[check_id]
             ctx = replace(base, limit=options.limit(check_id), cache=base.cache)
+            if options.progress is not None:
+                options.progress(path, check_id, None)
+                ctx = replace(ctx, progress=partial(options.progress, path, check_id))
             if spec.needs_hamiltonian and ham is None:
                 results.append(_stamped(check_id, f"not run: the file could not be assembled ({build_error})"))
                 continue

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import sys
+from dataclasses import replace
 
 import click
 from click.core import ParameterSource
@@ -15,8 +16,9 @@ from integrity.cli.options import (
     guarded,
     memory_option,
     parse_tolerances,
+    solver_options,
 )
-from integrity.cli.render import as_json, batch_entry_text, check_list_text, progress_text
+from integrity.cli.render import as_json, batch_entry_text, check_list_text, batch_progress_text
 
 
 def _list_checks(ctx, param, value):
@@ -78,6 +80,7 @@ def _list_checks(ctx, param, value):
     help="Follow this policy file instead of searching for integrity.toml / pyproject.toml.",
 )
 @click.option("--no-policy", is_flag=True, help="Follow no policy file: built-in defaults and the options given.")
+@solver_options
 @click.option("--quiet", "-q", is_flag=True, help="No progress line and no notes on stderr.")
 @click.option(
     "--list",
@@ -105,6 +108,8 @@ def check(
     scheduler,
     policy_file,
     no_policy,
+    max_iterations,
+    convergence,
     quiet,
 ):
     """Check Hamiltonian files; folders are searched for *.h5, *.hdf5 and *.json.
@@ -150,6 +155,9 @@ def check(
         cache=cache,
         no_cache=no_cache,
         scheduler=scheduler,
+    )
+    settings = replace(
+        settings, options=replace(settings.options, convergence=convergence, max_iterations=max_iterations)
     )
     note = (lambda line: None) if quiet else (lambda line: click.echo(line, err=True))
     if settings.policy is not None:
@@ -226,7 +234,7 @@ class _Progress:
 
     def __call__(self, done: int, total: int, failures: int, path: str) -> None:
         if self.bar is not None:
-            self.bar.update(done - self.bar.pos, progress_text(failures, path))
+            self.bar.update(done - self.bar.pos, batch_progress_text(failures, path))
 
     def clear(self) -> None:
         """Erase the progress line before a verdict is printed (it is drawn again on the next file)."""

@@ -257,5 +257,24 @@ def engine_option(help_text: str):
     return click.option("--engine", type=click.Choice(ENGINES), default="native", show_default=True, help=help_text)
 
 
+def solver_options(func):
+    """``--max-iterations`` and ``--convergence`` of the full-CI solver."""
+    func = click.option(
+        "--convergence",
+        type=click.FloatRange(min=0.0, min_open=True),
+        default=1e-9,
+        show_default=True,
+        metavar="HARTREE",
+        help="Energy accuracy a full-CI root must reach.",
+    )(func)
+    return click.option(
+        "--max-iterations",
+        type=click.IntRange(min=1),
+        default=200,
+        show_default=True,
+        help="Davidson iterations before a full-CI solve gives up (it then says so).",
+    )(func)
+
+
 def overwrite_option():
     return click.option("--overwrite", is_flag=True, help="Replace OUT if it exists (never the input).")

@@ -126,7 +126,7 @@ def batch_entry_text(entry, strict: bool = False) -> str:
     return file_report_text(entry, strict)
 
 
-def progress_text(failures: int, path: str) -> str:
+def batch_progress_text(failures: int, path: str) -> str:
     """What the progress line shows after the bar and the count: failures so far and the last file."""
     return f"{failures} not passed  {path}"
 
@@ -172,6 +172,16 @@ def solve_text(path, results, irrep_names=None) -> str:
             )
         lines += [f"  note: {one_line(note)}" for note in result.notes]
     return "\n".join(lines)
+
+
+def progress_text(update) -> str:
+    """One status line of a running full-CI solve (a :class:`~integrity.solver.SolveProgress`)."""
+    energies = " ".join(f"{e:.8f}" for e in update.energies[:3]) + (" ..." if len(update.energies) > 3 else "")
+    residual = max(update.residual_norms) if update.residual_norms else 0.0
+    return (
+        f"full CI: iteration {update.iteration}, E = {energies}, residual {residual:.1e} "
+        f"(target {update.residual_tolerance:.1e}), {update.elapsed:.0f} s"
+    )
 
 
 def conversion_text(result, out_path) -> str:

@@ -4,7 +4,8 @@ from __future__ import annotations
 
 import click
 
-from integrity.cli.options import engine_option, format_option, guarded, memory_option, options_named
+from integrity.cli.options import engine_option, format_option, guarded, memory_option, options_named, solver_options
+from integrity.cli.progress import solve_status
 from integrity.cli.render import as_json, solve_text
 
 #: the solver's argument names, as the options that set them
@@ -15,6 +16,8 @@ SOLVE_OPTIONS = {
     "two_s": "--two-s",
     "irrep": "--irrep",
     "nroots": "--roots",
+    "tol": "--convergence",
+    "max_iter": "--max-iterations",
 }
 
 
@@ -30,12 +33,22 @@ SOLVE_OPTIONS = {
 @click.option("--irrep", type=click.IntRange(0, 7), help="Keep only states of this irrep (needs irreps).")
 @engine_option("Our solver, pyscf's, or both side by side.")
 @memory_option("Refuse a solve whose estimate exceeds this.")
+@solver_options
+@click.option("--quiet", is_flag=True, help="No progress line on the terminal while a long solve runs.")
 @format_option()
 @guarded
-def solve(file, roots, alpha, beta, electrons, two_s, irrep, engine, memory, output_format):
+def solve(
+    file, roots, alpha, beta, electrons, two_s, irrep, engine, memory, max_iterations, convergence, quiet, output_format
+):
     """Full-CI energies of the lowest states of FILE, with their 2S and, when the file has irreps, their irrep
     (by name when its provenance names them). A 2S that no state of the electron counts can have is refused
     at once.
+
+    \b
+    A solve that runs for more than a few seconds shows its Davidson
+    iteration, energies, residual norms and elapsed time on stderr when that
+    is a terminal (not with --quiet). A solve that does not converge within
+    --max-iterations says so beside its roots.
 
     \b
     Examples:
@@ -52,21 +65,29 @@ def solve(file, roots, alpha, beta, electrons, two_s, irrep, engine, memory, out
         raise click.UsageError("give --electrons or --alpha/--beta, not both")
     ham = load(file, memory=memory)
     engines = ("native", "pyscf") if engine == "both" else (engine,)
-    with options_named(SOLVE_OPTIONS):
-        results = [
-            solve_hamiltonian(
-                ham,
-                alpha=alpha,
-                beta=beta,
-                electrons=electrons,
-                roots=roots,
-                two_s=two_s,
-                irrep=irrep,
-                engine=name,
-                memory=memory,
-            )
-            for name in engines
-        ]
+    status = solve_status(quiet)
+    try:
+        with options_named(SOLVE_OPTIONS):
+            results = [
+                solve_hamiltonian(
+                    ham,
+                    alpha=alpha,
+                    beta=beta,
+                    electrons=electrons,
+                    roots=roots,
+                    two_s=two_s,
+                    irrep=irrep,
+                    engine=name,
+                    memory=memory,
+                    tol=convergence,
+                    max_iter=max_iterations,
+                    progress=None if status is None else status.solve,
+                )
+                for name in engines
+            ]
+    finally:
+        if status is not None:
+            status.close()
     names = irrep_names(ham)
     if output_format == "json":
         click.echo(as_json({"path": file, "irrep_names": names, "results": [r.as_dict() for r in results]}))

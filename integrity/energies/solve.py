@@ -100,12 +100,17 @@ def solve(
     engine: str = "native",
     memory: int = DEFAULT_MEMORY,
     tol: float = 1e-9,
+    max_iter: int = 200,
+    progress=None,
 ) -> FCIResult:
     """Full-CI energies (hartree, core_energy included) of the lowest matching states.
 
     Electron counts default to the file's; give ``alpha`` and ``beta``, or
     ``electrons`` alone (for spin-orbital files whose Hamiltonian couples the
-    spins). ``engine`` is "native" (this project's solver) or "pyscf".
+    spins). ``engine`` is "native" (this project's solver) or "pyscf";
+    ``tol`` (energy accuracy, hartree), ``max_iter`` (Davidson iterations) and
+    ``progress`` (a callable taking :class:`~integrity.solver.SolveProgress`)
+    go to :func:`~integrity.solver.solve_arrays`.
     """
     if engine not in ("native", "pyscf"):
         raise FieldError("engine", f"expected 'native' or 'pyscf' here, got {engine!r}")
@@ -132,11 +137,20 @@ def solve(
         engine=engine,
         memory=memory,
         tol=tol,
+        max_iter=max_iter,
+        progress=progress,
     )
 
 
 def solve_reference(
-    ham: Hamiltonian, ref: Reference, *, engine: str = "native", memory: int = DEFAULT_MEMORY
+    ham: Hamiltonian,
+    ref: Reference,
+    *,
+    engine: str = "native",
+    memory: int = DEFAULT_MEMORY,
+    tol: float = 1e-9,
+    max_iter: int = 200,
+    progress=None,
 ) -> FCIResult:
     """The state an ``fci`` reference describes: its electrons, 2S, irrep and root."""
     electrons = ham.electrons_of(ref)
@@ -149,4 +163,7 @@ def solve_reference(
         root=ref.root or 0,
         engine=engine,
         memory=memory,
+        tol=tol,
+        max_iter=max_iter,
+        progress=progress,
     )

@@ -222,7 +222,8 @@ def spin_blocks(h, eri, layout: str):
         return None, ("the two-electron array has elements (pq|rs) with p, q (or r, s) of different spin")
     a, b = alpha_index(n, layout), beta_index(n, layout)
     eri_ab = eri[np.ix_(a, a, b, b)]
-    if np.any(eri[np.ix_(b, b, a, a)] != np.transpose(eri_ab, (2, 3, 0, 1))):
+    scale = max(1.0, float(np.max(np.abs(eri), initial=0.0)))
+    if _deviation(eri[np.ix_(b, b, a, a)], np.transpose(eri_ab, (2, 3, 0, 1))) > HERMITIAN_TOLERANCE * scale:
         return None, ("the (beta beta|alpha alpha) block is not the transpose of (alpha alpha|beta beta)")
     blocks = (h[np.ix_(a, a)], h[np.ix_(b, b)], eri[np.ix_(a, a, a, a)], eri_ab, eri[np.ix_(b, b, b, b)])
     return blocks, None

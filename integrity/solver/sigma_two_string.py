@@ -1,4 +1,8 @@
-"""Sigma ``H c`` for restricted and unrestricted orbitals (alpha and beta strings).
+"""Sigma ``H c`` for restricted and unrestricted orbitals over the whole ``c[Ia, Ib]`` matrix.
+
+The solver itself uses :mod:`sigma_blocked` (the same scheme by irrep blocks,
+on worker threads); this unblocked, single-threaded form is kept as the
+reference the tests compare it against.
 
 A CI vector is a matrix ``c[Ia, Ib]`` over alpha strings ``strings(n, n_alpha)``
 and beta strings ``strings(n, n_beta)``; the determinant is

@@ -25,25 +25,34 @@ ignored and a note says so.
 Convergence. ``tol`` is the energy accuracy in hartree; Davidson stops when
 each residual norm is below ``sqrt(tol) / 30``, which bounds the energy error
 by ``|r|**2 / gap = tol / (900 gap)``, under ``tol`` for any gap above 1.2 mhartree.
+A Davidson run stops after ``max_iter`` iterations; its roots then carry
+``converged = False`` and the residual norm reached.
+
+Progress. ``progress(SolveProgress)`` is called after every Davidson
+iteration of the native engine (energies with ``ecore``, residual norms,
+seconds since the solve started).
 """
 
 from __future__ import annotations
 
 import math
+import time
+from collections.abc import Callable
 from dataclasses import dataclass, replace
 
 import numpy as np
 
 from integrity.errors import FieldError
-from integrity.solver.integrals import require_arrays, sz_coupling
-from integrity.solver.memory import require_budget, with_roots
+from integrity.solver.davidson import default_max_space
+from integrity.solver.integrals import require_arrays, spin_blocks, sz_coupling
+from integrity.solver.memory import fitting_space, with_roots
 from integrity.solver.point_group import require_irreps
 from integrity.solver.problems import spin_orbital_problem, sz_conserved, two_string_problem
 from integrity.solver.pyscf_engine import pyscf_arrays, pyscf_states
 from integrity.solver.spin import two_s_of
 from integrity.solver.targeting import lowest_states
 
-__all__ = ["ENGINES", "FCIResult", "Root", "solve_arrays"]
+__all__ = ["ENGINES", "FCIResult", "Root", "SolveProgress", "solve_arrays"]
 
 ENGINES = ("native", "pyscf")
 
@@ -68,6 +77,18 @@ class Root:
             "residual": self.residual_norm,
             "converged": self.converged,
         }
+
+
+@dataclass(frozen=True)
+class SolveProgress:
+    """One Davidson iteration of a running solve: energies in hartree (``ecore`` included)."""
+
+    iteration: int
+    energies: tuple[float, ...]
+    residual_norms: tuple[float, ...]
+    residual_tolerance: float
+    elapsed: float
+    determinants: int
 
 
 @dataclass(frozen=True)
@@ -138,6 +159,16 @@ class Request:
     max_iter: int
     memory: int
     notes: list
+    progress: Callable | None = None
+
+
+def residual_tolerance(tol: float) -> float:
+    """Residual norm below which a root counts as converged for energy accuracy ``tol``.
+
+    >>> round(residual_tolerance(1e-9), 10)
+    1.05e-06
+    """
+    return math.sqrt(tol) / 30.0
 
 
 def _count(field: str, value, low: int, high: int) -> int:
@@ -285,12 +316,15 @@ def solve_arrays(
     memory: int = 4 * 2**30,
     tol: float = 1e-9,
     max_iter: int = 200,
+    progress: Callable | None = None,
 ) -> FCIResult:
     """Lowest ``nroots`` matching states (from ``root`` on) of one Hamiltonian.
 
     ``basis`` is "restricted", "unrestricted" or "spin-orbital" (then
     ``spin_layout`` is "interleaved" or "blocked"); ``memory`` is the budget in
-    bytes for the native engine, which raises :class:`BudgetError` beyond it.
+    bytes for the native engine, which raises :class:`BudgetError` beyond it;
+    ``tol`` the energy accuracy (hartree) and ``max_iter`` the Davidson
+    iterations allowed; ``progress`` a callable taking :class:`SolveProgress`.
 
     >>> h = np.array([[0.0, -1.0], [-1.0, 0.0]]); eri = np.zeros((2, 2, 2, 2))
     >>> eri[0, 0, 0, 0] = eri[1, 1, 1, 1] = 4.0
@@ -304,6 +338,7 @@ def solve_arrays(
     root = _count("root", root, 0, 10**9)
     if not (isinstance(tol, (int, float)) and tol > 0):
         raise FieldError("tol", f"expected a positive energy tolerance, got {tol!r}")
+    max_iter = _count("max_iter", max_iter, 1, 10**6)
     h1, eri, n = require_arrays(basis, h1, eri)
     layout = spin_layout if basis == "spin-orbital" else None
     irreps = require_irreps(irreps, n // 2 if layout else n, irrep)
@@ -345,13 +380,33 @@ def solve_arrays(
         max_iter=max_iter,
         memory=memory,
         notes=notes,
+        progress=progress,
     )
     return (_solve_pyscf if engine == "pyscf" else _solve_native)(request)
 
 
 def _solve_native(req: Request) -> FCIResult:
     notes = req.notes
-    if req.basis == "spin-orbital":
+    blocks = None
+    if req.basis == "spin-orbital" and req.conserving:
+        blocks, _ = spin_blocks(req.h1, req.eri, req.layout)
+    if blocks is not None:
+        # alpha and beta spin orbitals do not mix: the two-string (blocked) solver applies
+        ha, hb, gaa, gab, gbb = blocks
+        notes.append("alpha and beta blocks solved as two strings")
+        problem = two_string_problem(
+            "unrestricted",
+            np.array([ha, hb]),
+            np.array([gaa, gab, gbb]),
+            req.n_alpha,
+            req.n_beta,
+            irreps=req.irreps,
+            irrep=req.irrep,
+            nroots=req.need,
+            budget=req.memory,
+            spin_square=True,
+        )
+    elif req.basis == "spin-orbital":
         problem = spin_orbital_problem(
             req.h1,
             req.eri,
@@ -382,17 +437,44 @@ def _solve_native(req: Request) -> FCIResult:
         )
     notes.extend(problem.notes)
 
+    chosen = {}
+
     def require_memory(k):
-        require_budget(with_roots(problem.memory, k, problem.dtype.itemsize), req.memory)
+        chosen["space"] = fitting_space(problem.memory, k, problem.dtype.itemsize, req.memory)
+        chosen["estimate"] = with_roots(problem.memory, k, problem.dtype.itemsize, chosen["space"])
+        return chosen["space"]
+
+    started = time.perf_counter()
+
+    def report(step):
+        req.progress(
+            SolveProgress(
+                iteration=step.iteration,
+                energies=tuple(float(e) + req.ecore for e in step.energies),
+                residual_norms=tuple(float(r) for r in step.residual_norms),
+                residual_tolerance=float(step.tolerance),
+                elapsed=time.perf_counter() - started,
+                determinants=problem.ndet,
+            )
+        )
 
     states = lowest_states(
         problem,
         req.need,
         two_s=req.spin_target,
-        tol=math.sqrt(req.tol) / 30.0,
+        tol=residual_tolerance(req.tol),
         max_iter=req.max_iter,
         require_memory=require_memory,
+        progress=report if req.progress is not None else None,
     )
+    if chosen.get("space", 0) < default_max_space(states.roots_solved):
+        notes.append(f"Davidson basis held to {chosen['space']} vectors to fit the memory budget")
+    if not states.converged.all():
+        worst = float(np.max(states.residual_norms))
+        notes.append(
+            f"not converged: residual norm {worst:.2e} (needed < {residual_tolerance(req.tol):.2e}) "
+            f"after {states.iterations} iterations"
+        )
     if states.roots_solved > req.need:
         notes.append(f"solved {states.roots_solved} roots to find {req.need} with 2S = {req.spin_target}")
     if req.basis == "unrestricted":
@@ -404,7 +486,7 @@ def _solve_native(req: Request) -> FCIResult:
         spin_known=req.basis != "unrestricted",
         determinants=problem.ndet,
         iterations=states.iterations,
-        memory_estimate=problem.memory.total,
+        memory_estimate=chosen.get("estimate", problem.memory).total,
         checked=req.spin_target is not None,
     )
 

@@ -26,12 +26,14 @@ import math
 import numpy as np
 
 from integrity.solver.integrals import alpha_index, beta_index
+from integrity.solver.irrep_blocks import string_groups
 from integrity.solver.strings import popcount, strings
 from integrity.solver.tables import annihilation_table, creation_table
 
 __all__ = [
     "raise_two_string",
     "spin_orbital_raising",
+    "spin_square_matrix_blocked",
     "spin_square_matrix_spin_orbital",
     "spin_square_matrix_two_string",
     "two_s_of",
@@ -80,6 +82,61 @@ def spin_square_matrix_two_string(vectors, n: int, n_alpha: int, n_beta: int) ->
     flat = np.array([v.ravel() for v in vectors])
     up = np.array(raised).reshape(len(vectors), -1)
     return up.conj() @ up.T + (sz * sz + sz) * (flat.conj() @ flat.T)
+
+
+def _raise_blocked(flat: np.ndarray, layout, up, down, up_groups, down_groups) -> np.ndarray:
+    """``S_+`` of a blocked vector (:mod:`irrep_blocks`), as the stored blocks of the raised space.
+
+    ``a†_i(alpha) a_i(beta)`` takes block ``(Ga, Gb)`` to ``(Ga ^ Γ(i), Gb ^ Γ(i))``, so
+    the raised vector keeps the target irrep; its blocks are keyed by alpha irrep.
+    """
+    labels = layout.orbital_irreps
+    parity = -1.0 if layout.n_alpha % 2 else 1.0
+    raised = {}
+    for block, c in zip(layout.blocks, layout.views(flat), strict=True):
+        ga, gb = block.alpha_irrep, block.beta_irrep
+        rows_all, cols_all = layout.alpha.members(ga), layout.beta.members(gb)
+        for i, gamma in enumerate(labels):
+            rows = np.flatnonzero(up.index[rows_all, i] >= 0)
+            cols = np.flatnonzero(down.index[cols_all, i] >= 0)
+            if len(rows) == 0 or len(cols) == 0:
+                continue
+            key = int(ga ^ gamma)
+            if key not in raised:
+                shape = (up_groups.size(key), down_groups.size(int(gb ^ gamma)))
+                raised[key] = np.zeros(shape, dtype=flat.dtype)
+            sign = parity * np.outer(up.sign[rows_all[rows], i], down.sign[cols_all[cols], i])
+            target_rows = up_groups.local[up.index[rows_all[rows], i]]
+            target_cols = down_groups.local[down.index[cols_all[cols], i]]
+            raised[key][np.ix_(target_rows, target_cols)] += sign * c[np.ix_(rows, cols)]
+    parts = [raised[key].ravel() for key in sorted(raised)]
+    return np.concatenate(parts) if parts else np.zeros(0, dtype=flat.dtype)
+
+
+def spin_square_matrix_blocked(vectors, layout) -> np.ndarray:
+    """``M[i, j] = <x_i|S^2|x_j>`` for flat blocked vectors of one layout (restricted orbitals).
+
+    >>> from integrity.solver.irrep_blocks import block_layout
+    >>> layout = block_layout(2, 1, 1, [0, 1], 1)
+    >>> [b.alpha_irrep for b in layout.blocks]        # c[0, 1] and c[1, 0]
+    [0, 1]
+    >>> x = np.array([[1.0, 1.0], [1.0, -1.0]]) / np.sqrt(2)   # singlet, triplet (M_S = 0)
+    >>> np.round(spin_square_matrix_blocked(x, layout), 12).tolist()
+    [[0.0, 0.0], [0.0, 2.0]]
+    """
+    vectors = [np.asarray(v) for v in vectors]
+    n = len(layout.orbital_irreps)
+    n_alpha, n_beta = layout.n_alpha, layout.n_beta
+    sz = 0.5 * (n_alpha - n_beta)
+    flat = np.array(vectors).reshape(len(vectors), -1)
+    weight = (sz * sz + sz) * (flat.conj() @ flat.T)
+    if n_alpha >= n or n_beta == 0:
+        return weight
+    up_groups = string_groups(n, n_alpha + 1, layout.orbital_irreps)
+    down_groups = string_groups(n, n_beta - 1, layout.orbital_irreps)
+    up, down = creation_table(n, n_alpha), annihilation_table(n, n_beta)
+    raised = np.array([_raise_blocked(v, layout, up, down, up_groups, down_groups) for v in vectors])
+    return raised.conj() @ raised.T + weight
 
 
 def spin_orbital_raising(determinants: np.ndarray, m: int, layout: str):

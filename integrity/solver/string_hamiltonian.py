@@ -35,18 +35,20 @@ DENSE_STRING_LIMIT = 6000
 _TERMS_PER_BLOCK = 4_000_000
 
 
-def string_hamiltonian_bytes(nstr: int, nent: int, itemsize: int) -> int:
-    """Bytes held by the matrix (dense, or CSR estimated from the table width) and scratch."""
-    scratch = min(_TERMS_PER_BLOCK, nstr * nent * nent) * (8 + 2 * itemsize) * 3
+def string_hamiltonian_bytes(nstr: int, nent: int, itemsize: int, scratch: bool = True) -> int:
+    """Bytes held by the matrix (dense, or CSR estimated from the table width), with the build scratch."""
+    scratch = min(_TERMS_PER_BLOCK, nstr * nent * nent) * (8 + 2 * itemsize) * 3 if scratch else 0
     if nstr <= DENSE_STRING_LIMIT:
         return nstr * nstr * itemsize + scratch
     return nstr * min(nstr, nent * nent) * (itemsize + 8) * 2 + scratch
 
 
-def string_hamiltonian(h, eri, n: int, k: int):
+def string_hamiltonian(h, eri, n: int, k: int, members=None):
     """``<I|H_1|J>`` over ``strings(n, k)``: dense ndarray or ``scipy.sparse.csr_array``.
 
-    Dense when ``comb(n, k) <= DENSE_STRING_LIMIT``. dtype follows the integrals.
+    With ``members`` (indices into ``strings(n, k)``) only the block
+    ``<members[i]|H_1|members[j]>`` is built (for one irrep's strings).
+    Dense when it has at most ``DENSE_STRING_LIMIT`` rows. dtype follows the integrals.
 
     >>> h = np.diag([1.0, 2.0])
     >>> eri = np.zeros((2, 2, 2, 2)); eri[0, 0, 1, 1] = eri[1, 1, 0, 0] = 0.5
@@ -57,25 +59,38 @@ def string_hamiltonian(h, eri, n: int, k: int):
     eri = np.asarray(eri)
     dtype = np.result_type(h, eri, np.float64)
     table = excitation_table(n, k)
-    nstr, nent = table.sign.shape
+    nent = table.sign.shape[1]
+    members = np.arange(len(table.sign), dtype=np.int64) if members is None else np.asarray(members, dtype=np.int64)
+    nstr = len(members)
+    column = np.full(len(table.sign), -1, dtype=np.int64)
+    column[members] = np.arange(nstr)
     dense = nstr <= DENSE_STRING_LIMIT
     kmat = h - 0.5 * np.einsum("prrq->pq", eri)
     rows = np.repeat(np.arange(nstr, dtype=np.int64), nent)
-    one_body = (table.sign * kmat.reshape(-1)[table.pair]).reshape(-1)
-    pieces = [(rows, table.source.reshape(-1), one_body)]
+    one_body = (table.sign[members] * kmat.reshape(-1)[table.pair[members]]).reshape(-1)
+    pieces = [_kept(rows, column[table.source[members]].reshape(-1), one_body)]
     g = eri.reshape(n * n, n * n)
     block = max(1, _TERMS_PER_BLOCK // max(1, nent * nent))
     for start in range(0, nstr, block):
         stop = min(nstr, start + block)
-        middle = table.source[start:stop]  # K, shape (b, e)
+        first = members[start:stop]
+        middle = table.source[first]  # K, shape (b, e)
         second_pair = table.pair[middle]  # (b, e, e)
-        values = g[table.pair[start:stop, :, None], second_pair]
-        values = values * (0.5 * table.sign[start:stop, :, None] * table.sign[middle])
+        values = g[table.pair[first][:, :, None], second_pair]
+        values = values * (0.5 * table.sign[first][:, :, None] * table.sign[middle])
         target = np.broadcast_to(np.arange(start, stop)[:, None, None], values.shape)
-        pieces.append((target.reshape(-1), table.source[middle].reshape(-1), values.reshape(-1)))
+        pieces.append(_kept(target.reshape(-1), column[table.source[middle]].reshape(-1), values.reshape(-1)))
     if dense:
         return _accumulate_dense(pieces, nstr, dtype)
     return _accumulate_sparse(pieces, nstr, dtype)
+
+
+def _kept(target, source, values):
+    """Drop the terms whose source string lies outside the block (``source == -1``)."""
+    keep = source >= 0
+    if keep.all():
+        return target, source, values
+    return target[keep], source[keep], values[keep]
 
 
 def _accumulate_dense(pieces, nstr: int, dtype) -> np.ndarray:

@@ -23,7 +23,7 @@ state of the other S parity) this finds a singlet even when triplets lie lower.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
@@ -96,7 +96,7 @@ def _purify(problem: Problem, energies, vectors, norms, converged):
     s_squared = [None] * len(energies)
     if problem.spin_square is not None:
         s_squared = [float(np.real(problem.spin_square(vectors[:, [k]].T)[0, 0])) for k in range(len(energies))]
-    irreps = [None] * len(energies)
+    irreps = [problem.irrep] * len(energies)
     if problem.det_irreps is not None:
         for k in range(len(energies)):
             weights = np.bincount(problem.det_irreps, weights=np.abs(vectors[:, k]) ** 2, minlength=8)
@@ -120,13 +120,23 @@ def _pure(s_squared) -> bool:
 
 
 def lowest_states(
-    problem: Problem, need: int, *, two_s=None, tol: float = 1e-6, max_iter: int = 200, require_memory=None
+    problem: Problem,
+    need: int,
+    *,
+    two_s=None,
+    tol: float = 1e-6,
+    max_iter: int = 200,
+    require_memory=None,
+    progress=None,
 ) -> States:
     """The lowest ``need`` states of ``problem``, those of spin ``two_s / 2`` when given.
 
-    ``require_memory(k)`` is called before solving ``k`` roots (it may raise
-    :class:`BudgetError`). Raises :class:`FieldError` when the space holds fewer
-    matching states than needed.
+    ``require_memory(k)`` is called before solving ``k`` roots: it returns the
+    Davidson basis size to use (None: the default) or raises :class:`BudgetError`.
+    Raises :class:`FieldError` when the space holds fewer
+    matching states than needed. ``progress`` receives every Davidson
+    :class:`~integrity.solver.davidson.Iteration`, numbered across restarts;
+    ``max_iter`` bounds the iterations of each Davidson run.
     """
     if two_s is not None and problem.spin_square is None:
         raise FieldError("two_s", "this problem has no S^2 operator")
@@ -137,8 +147,14 @@ def lowest_states(
     guesses = None
     iterations = 0
     while True:
-        if require_memory is not None:
-            require_memory(k)
+        max_space = require_memory(k) if require_memory is not None else None
+        counted = None
+        if progress is not None:
+            done = iterations
+
+            def counted(step, done=done):
+                progress(replace(step, iteration=done + step.iteration))
+
         result = davidson(
             problem.matvec,
             problem.diagonal,
@@ -148,6 +164,9 @@ def lowest_states(
             guesses=guesses,
             project=problem.project,
             dtype=problem.dtype,
+            progress=counted,
+            max_space=max_space,
+            pspace=problem.pspace,
         )
         iterations += result.iterations
         exhausted = len(result.energies) < k or k >= problem.ndet

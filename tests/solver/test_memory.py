@@ -9,6 +9,7 @@ import pytest
 
 from integrity.errors import BudgetError
 from integrity.solver import estimate_memory, slater_condon_solve, solve_arrays
+from integrity.solver.irrep_blocks import block_layout
 from integrity.solver.memory import two_string_memory
 from integrity.testing.arrays import random_restricted
 
@@ -28,8 +29,8 @@ def test_a_space_too_large_for_a_tiny_budget_raises_with_the_figures():
 def test_the_estimate_is_made_without_building_anything_and_grows_with_the_space():
     sizes = [estimate_memory("restricted", n, n_alpha=n // 2, n_beta=n // 2) for n in (8, 10, 12, 14, 16)]
     assert sizes == sorted(sizes)
-    # At least the Davidson vectors: 24 vectors of comb(16, 8)**2 doubles.
-    assert sizes[-1] > 24 * comb(16, 8) ** 2 * 8
+    # At least the Davidson basis and its images: 16 vectors of comb(16, 8)**2 doubles.
+    assert sizes[-1] > 16 * comb(16, 8) ** 2 * 8
     assert estimate_memory("restricted", 6, n_alpha=3, n_beta=3, complex_values=True) > estimate_memory(
         "restricted", 6, n_alpha=3, n_beta=3
     )
@@ -38,16 +39,14 @@ def test_the_estimate_is_made_without_building_anything_and_grows_with_the_space
     )
 
 
-def test_a_tight_budget_shrinks_the_block_and_keeps_the_answer():
-    roomy = two_string_memory(12, 6, 6)
-    tight = two_string_memory(12, 6, 6, budget=roomy.total - roomy.parts["block scratch"] // 2)
-    assert tight.block < roomy.block
-    h, eri = random_restricted(6, np.random.default_rng(1))
-    plain = solve_arrays("restricted", h, eri, n_alpha=3, n_beta=3)
-    estimate = two_string_memory(6, 3, 3, block=1)
-    squeezed = solve_arrays("restricted", h, eri, n_alpha=3, n_beta=3, memory=estimate.total + 1)
-    assert abs(plain.roots[0].energy - squeezed.roots[0].energy) < 1e-10
-    assert squeezed.memory_estimate <= estimate.total + 1
+def test_the_estimate_counts_only_the_blocks_of_the_target_irrep():
+    irreps = [0, 1, 2, 3, 4, 5, 6, 7, 0, 3, 5, 6]
+    whole = two_string_memory(12, 6, 6)
+    layout = block_layout(12, 6, 6, irreps, 0)
+    blocked = two_string_memory(12, 6, 6, layout=layout)
+    assert blocked.determinants == layout.size < whole.determinants / 4
+    assert blocked.parts["davidson"] * whole.determinants == whole.parts["davidson"] * layout.size
+    assert blocked.total < whole.total / 2
 
 
 def test_the_estimate_bounds_what_a_solve_actually_allocates():
