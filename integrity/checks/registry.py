@@ -131,6 +131,7 @@ class Result:
             limit=data.get("limit"),
             where=None if where is None else Location.from_dict(where),
             details=dict(data.get("details") or {}),
+            fails_when=data.get("fails_when"),
         )
 
 

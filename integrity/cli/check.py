@@ -18,7 +18,7 @@ from integrity.cli.options import (
     parse_tolerances,
     solver_options,
 )
-from integrity.cli.render import as_json, batch_entry_text, check_list_text, batch_progress_text
+from integrity.cli.render import as_json, batch_entry_text, batch_progress_text, check_list_text
 
 
 def _list_checks(ctx, param, value):

@@ -34,6 +34,7 @@ results = st.builds(
     limit=numbers,
     where=locations,
     details=st.dictionaries(names, st.one_of(st.integers(), st.text(max_size=5), numbers), max_size=3),
+    fails_when=st.sampled_from([None, "above", "below"]),
 )
 reports = st.builds(
     FileReport,
