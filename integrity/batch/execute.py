@@ -29,6 +29,7 @@ from typing import Any
 from integrity.batch.cache import ResultCache, settings_digest
 from integrity.batch.job import Job, judge, outcome_entry, renamed, settings_of, unreadable
 from integrity.batch.settings import BatchSettings
+from integrity.batch.status import Show, StatusChannel
 from integrity.checks.report import FileReport, PassedOver
 from integrity.errors import IntegrityError
 from integrity.io import find_files
@@ -197,7 +198,9 @@ class BatchRun:
 
     ``executor`` is built by :func:`make_executor` unless given (a given one is
     not closed); ``warn`` receives one line per cache problem;
-    ``progress(done, total, failures, path)`` is called as each file is done.
+    ``progress(done, total, failures, path)`` is called as each file is done;
+    ``status(path, check_id, update)`` as a check starts in a local worker
+    (``update`` None) and at every iteration of a full-CI solve in it.
     After an interruption, :meth:`finished_early` gives the entries done but
     not yet yielded.
     """
@@ -211,11 +214,13 @@ class BatchRun:
         task: Callable[[Job], dict] = judge,
         warn: Callable[[str], None] = lambda line: None,
         progress: Callable[[int, int, int, str], None] | None = None,
+        status: Show | None = None,
     ):
         self.settings = settings
         self.files = find_files(paths)
         self.warn = warn
         self.progress = progress
+        self.status = status
         self.task = task
         self.executor = executor
         self.cache_hits = 0
@@ -240,11 +245,13 @@ class BatchRun:
         cache = ResultCache(settings.cache, warn=self.warn) if settings.cache else None
         options, cwd = self.worker_options(), os.getcwd()
         key = settings_digest(settings_of(options, settings.foreign))
+        channel = StatusChannel(self.status) if self.status and settings.scheduler is None else None
         jobs: list[Job] = []
         for index, path in enumerate(self.files):
             reason = settings.files.passed_over(path)
             if reason is None:
-                jobs.append(Job(index, path, cwd, options, settings.foreign, digest=cache is not None))
+                status = None if channel is None else channel.reporter(path)
+                jobs.append(Job(index, path, cwd, options, settings.foreign, digest=cache is not None, status=status))
             else:
                 self._finish(index, PassedOver(path, reason))
         self._started = None
@@ -255,6 +262,8 @@ class BatchRun:
             raise
         finally:
             self._close()
+            if channel is not None:
+                channel.close()
             if cache is not None:
                 self.cache_hits = cache.hits
                 cache.close()

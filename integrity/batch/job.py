@@ -19,7 +19,7 @@ was judged.
 from __future__ import annotations
 
 import os
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from typing import Any
 
 from integrity.checks.report import FileReport, PassedOver
@@ -37,7 +37,8 @@ class Job:
     """Judge the file ``path`` (as given, relative to ``cwd`` unless absolute) with ``options``.
 
     ``foreign`` is ``note`` (a file without our format marker is passed over)
-    or ``refuse`` (it is unreadable); ``digest`` asks for the file's digest.
+    or ``refuse`` (it is unreadable); ``digest`` asks for the file's digest;
+    ``status`` (a :class:`~integrity.batch.status.Reporter`) hears which check runs.
     """
 
     index: int
@@ -46,6 +47,7 @@ class Job:
     options: CheckOptions
     foreign: str = "refuse"
     digest: bool = False
+    status: Any = None
 
     @property
     def location(self) -> str:
@@ -62,7 +64,8 @@ def judge(job: Job) -> dict[str, Any]:
             digest = file_digest(location)
         except IntegrityError:
             digest = None  # unreadable: the check below says why
-    report = check(location, job.options)
+    options = job.options if job.status is None else replace(job.options, progress=job.status)
+    report = check(location, options)
     if report.status == "unreadable" and job.foreign == "note":
         reason = foreign_reason(location)
         if reason is not None:

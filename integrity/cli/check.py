@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import sys
+import threading
 from dataclasses import replace
 
 import click
@@ -164,7 +165,7 @@ def check(
         note(f"policy: {settings.policy}")
 
     progress = None if quiet or not sys.stderr.isatty() else _Progress()
-    run = BatchRun(paths, settings, warn=note, progress=progress)
+    run = BatchRun(paths, settings, warn=note, progress=progress, status=None if progress is None else progress.status)
     if progress is not None:
         progress.start(run.total)
     text = output_format == "text"
@@ -216,10 +217,14 @@ def _batch(entries, settings, interrupted):
 
 
 class _Progress:
-    """The progress line on stderr (a terminal only): files done, failures so far, the last file."""
+    """The progress line on stderr (a terminal only): files done, failures so far, and the file
+    and check a worker is in (the file finished last between reports). Workers' reports arrive
+    on another thread, hence the lock."""
 
     def __init__(self):
         self.bar = None
+        self.failures = 0
+        self.lock = threading.Lock()
 
     def start(self, total: int) -> None:
         self.bar = click.progressbar(
@@ -233,16 +238,26 @@ class _Progress:
         self.bar.__enter__()
 
     def __call__(self, done: int, total: int, failures: int, path: str) -> None:
-        if self.bar is not None:
-            self.bar.update(done - self.bar.pos, batch_progress_text(failures, path))
+        with self.lock:
+            self.failures = failures
+            if self.bar is not None:
+                self.bar.update(done - self.bar.pos, batch_progress_text(failures, path))
+
+    def status(self, path: str, check_id: str, update=None) -> None:
+        with self.lock:
+            if self.bar is not None:
+                self.bar.current_item = batch_progress_text(self.failures, path, check_id, update)
+                self.bar.render_progress()
 
     def clear(self) -> None:
         """Erase the progress line before a verdict is printed (it is drawn again on the next file)."""
-        if self.bar is not None and sys.stdout.isatty():
-            sys.stderr.write("\r\033[K")
-            sys.stderr.flush()
+        with self.lock:
+            if self.bar is not None and sys.stdout.isatty():
+                sys.stderr.write("\r\033[K")
+                sys.stderr.flush()
 
     def finish(self) -> None:
-        if self.bar is not None:
-            self.bar.__exit__(None, None, None)
-            self.bar = None
+        with self.lock:
+            if self.bar is not None:
+                self.bar.__exit__(None, None, None)
+                self.bar = None

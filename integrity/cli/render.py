@@ -126,9 +126,15 @@ def batch_entry_text(entry, strict: bool = False) -> str:
     return file_report_text(entry, strict)
 
 
-def batch_progress_text(failures: int, path: str) -> str:
-    """What the progress line shows after the bar and the count: failures so far and the last file."""
-    return f"{failures} not passed  {path}"
+def batch_progress_text(failures: int, path: str, check_id: str | None = None, update=None) -> str:
+    """What the progress line shows after the bar and the count: failures so far, then the file
+    finished last or, while a worker reports, the file and check it is in (and its solve)."""
+    text = f"{failures} not passed  {printable(path)}"
+    if check_id is not None:
+        text += f": {check_id}"
+    if update is not None:
+        text += f", {progress_text(update)}"
+    return text
 
 
 def check_list_text(specs) -> str:
