@@ -46,6 +46,7 @@ from integrity.errors import FieldError
 from integrity.solver.davidson import default_max_space
 from integrity.solver.integrals import require_arrays, spin_blocks, sz_coupling
 from integrity.solver.memory import fitting_space, with_roots
+from integrity.solver.parallel import single_threaded_blas
 from integrity.solver.point_group import require_irreps
 from integrity.solver.problems import spin_orbital_problem, sz_conserved, two_string_problem
 from integrity.solver.pyscf_engine import pyscf_arrays, pyscf_states
@@ -382,7 +383,10 @@ def solve_arrays(
         notes=notes,
         progress=progress,
     )
-    return (_solve_pyscf if engine == "pyscf" else _solve_native)(request)
+    if engine == "pyscf":
+        return _solve_pyscf(request)
+    with single_threaded_blas():  # the two sigma threads are the parallelism; see parallel.py
+        return _solve_native(request)
 
 
 def _solve_native(req: Request) -> FCIResult:

@@ -102,3 +102,21 @@ def test_the_status_line_rewrites_one_line_and_clears_it():
     quiet = _Terminal()
     StatusLine(quiet, delay=3600.0).solve(SolveProgress(1, (0.0,), (1.0,), 1e-6, 0.0, 1))
     assert quiet.getvalue() == ""
+
+
+def test_blas_runs_one_thread_during_a_native_solve_and_gets_its_setting_back():
+    # the two sigma threads are the solve's parallelism; a threaded LAPACK on a loaded machine
+    # made the P-space eigensolver 40 times slower (solver/parallel.py)
+    from threadpoolctl import threadpool_info, threadpool_limits
+
+    def blas_threads():
+        return {entry["filepath"]: entry["num_threads"] for entry in threadpool_info() if entry["user_api"] == "blas"}
+
+    h, eri = _hamiltonian()
+    seen = []
+    with threadpool_limits(limits=2, user_api="blas"):
+        before = blas_threads()
+        solve_arrays("restricted", h, eri, 0.0, n_alpha=3, n_beta=3, progress=lambda step: seen.append(blas_threads()))
+        after = blas_threads()
+    assert seen and all(set(threads.values()) == {1} for threads in seen)
+    assert after == before
