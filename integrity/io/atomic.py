@@ -17,9 +17,10 @@ Conventions:
   an existing file is never replaced by accident. With ``overwrite`` it is :func:`os.replace` (a
   symbolic link given as the target is replaced, not written through).
 * **Stale temporary files.** SIGKILL cannot be caught, so a killed writer leaves its ``.part`` file.
-  Every write (and every guard) first removes, in the folder it writes to, the ``.part`` files of
-  this naming whose owner is provably dead: same host name and :func:`os.kill` ``(pid, 0)`` raises
-  ProcessLookupError. Files of other hosts, of live processes, or of other naming are left alone.
+  Every write and every guard (even one that then refuses) first removes, in the folder it writes
+  to, the ``.part`` files of this naming whose owner is provably dead: same host name and
+  :func:`os.kill` ``(pid, 0)`` raises ProcessLookupError. Files of other hosts, of live
+  processes, or of another naming are left alone.
 * **Operating-system errors** (permission denied, read-only file system, no space left, a file-size
   limit) become one :class:`~integrity.errors.OutputError` naming the path and the reason
   (``strerror``); the temporary file is removed and the target is untouched.
@@ -159,8 +160,8 @@ def require_output(path, *, overwrite: bool = False, inputs=()) -> Path:
                 "(not even with --overwrite), write to a new path",
                 str(target),
             )
+    remove_stale_parts(_folder_of(target))
     folder = _check_target(target, overwrite)
-    remove_stale_parts(folder)
     probe = _create_temporary(folder, target)
     with contextlib.suppress(OSError):
         probe.unlink()
@@ -189,8 +190,8 @@ def atomic_output(path, *, overwrite: bool = False):
     ['a.txt']
     """
     target = Path(path)
+    remove_stale_parts(_folder_of(target))
     folder = _check_target(target, overwrite)
-    remove_stale_parts(folder)
     tmp = _create_temporary(folder, target)
     try:
         try:
@@ -214,6 +215,10 @@ def atomic_output(path, *, overwrite: bool = False):
             tmp.unlink()
 
 
+def _folder_of(target: Path) -> Path:
+    return target.parent if str(target.parent) else Path(".")
+
+
 def _check_target(target: Path, overwrite: bool) -> Path:
     """The target's own refusals (dangling link, folder, existing, no folder); return its folder."""
     if target.is_symlink() and not target.exists():
@@ -227,7 +232,7 @@ def _check_target(target: Path, overwrite: bool) -> Path:
         raise OutputError(None, "is a folder; give a file name", str(target))
     if target.exists() and not overwrite:
         raise OverwriteError(None, _EXISTS, str(target))
-    folder = target.parent if str(target.parent) else Path(".")
+    folder = _folder_of(target)
     if not folder.exists():
         raise OutputError(None, f"folder {str(folder)!r} does not exist", str(target))
     if not folder.is_dir():
