@@ -6,10 +6,10 @@ subprocess (``python -m integrity``), sends SIGKILL after a given delay (callers
 seeded generator within the command's measured run time, :func:`measure`), and returns a
 :class:`KillOutcome`:
 
-* the target is ``absent``, ``complete`` (it loads, and its content's fingerprint equals both its
-  stored checksum and the one an uninterrupted run writes, or it is the previous file, unchanged,
-  when the round replaces one with ``--overwrite``) or ``half`` (anything else: a half-written
-  file under the target's name, which must never happen);
+* the target is ``absent``, ``previous`` (the file a round run with ``--overwrite`` set out to
+  replace, unchanged), ``complete`` (it loads, and its content's fingerprint equals both its stored
+  checksum and the one an uninterrupted run writes) or ``half`` (anything else: a half-written file
+  under the target's name, which must never happen);
 * whether an input's SHA-256 changed (must never happen);
 * the temporary (``*.part``) files the kill left, and those still there after the same command
   is run again to completion with ``--overwrite`` (must be none: that run removes the stale
@@ -59,7 +59,7 @@ class KillOutcome:
     command: str
     delay: float
     killed: bool  # False: the process ended before the signal
-    target: str  # "absent", "complete" or "half"
+    target: str  # "absent", "previous", "complete" or "half"
     problem: str  # why a target is "half"; empty otherwise
     input_changed: bool
     parts_after_kill: list[str] = field(default_factory=list)
@@ -177,7 +177,7 @@ def temporaries(folder) -> list[str]:
 
 
 def judge_target(target: Path, expected_checksum: str | None, previous_digest: str | None) -> tuple[str, str]:
-    """``("absent" | "complete" | "half", problem)`` for what is under the target's name.
+    """``("absent" | "previous" | "complete" | "half", problem)`` for what is under the target's name.
 
     ``expected_checksum`` None: a file that loads and matches its own checksum is complete (for
     ``build``, whose numbers come from an SCF and need not repeat to the last bit).
@@ -185,7 +185,7 @@ def judge_target(target: Path, expected_checksum: str | None, previous_digest: s
     if not target.exists() and not target.is_symlink():
         return "absent", ""
     if previous_digest is not None and sha256(target) == previous_digest:
-        return "complete", ""  # the file the round set out to replace, untouched
+        return "previous", ""  # the file the round set out to replace, untouched
     try:
         checksum = stored_checksum(target)
     except Exception as err:  # any failure to read it is what we look for
