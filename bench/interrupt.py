@@ -1,11 +1,13 @@
 """SIGKILL real ``convert``, ``wrap`` and ``build`` processes at random moments and count what they leave.
 
-For each command (:mod:`integrity.testing.interruptions`): one uncut run measures its wall time
-and the checksum it writes; then each round starts the command, kills it after a delay drawn
-uniformly from [0, that time] (seeded), judges the target and the input, and runs the command
-again to completion with ``--overwrite``. Every third round starts with a valid file of another
-content under the target's name and runs with ``--overwrite`` (the target must then be that file
-or the new one, never absent). Printed per command and in total:
+For each command (:mod:`integrity.testing.interruptions`): one uncut run measures its wall time,
+when its temporary file appears (the write phase) and the checksum it writes; then each round starts
+the command, kills it after a delay drawn uniformly (seeded) from the whole run in even rounds and
+from the write phase in odd ones (most of a run is starting Python and computing), judges the target
+and the input, and runs the command again to completion with ``--overwrite``. Rounds go on until
+``--kills`` kills per command have landed (at most three times as many rounds). Every third round
+starts with a valid file of another content under the target's name and runs with ``--overwrite``
+(the target must then be that file or the new one, never absent). Printed per command and in total:
 
 * kills: processes the signal reached (a process that ended before it is counted apart);
 * target absent / previous (the file being replaced, unchanged) / complete (the new file) /
@@ -14,8 +16,8 @@ or the new one, never absent). Printed per command and in total:
 * part files left by the kill: the kill landed during a write (its temporary file is there);
 * temporaries after the next run (goal 0): ``*.part`` files still there once the command ran again.
 
-    python bench/interrupt.py                 # 20 rounds per command (60 kills)
-    python bench/interrupt.py --quick         # 3 rounds per command
+    python bench/interrupt.py                 # 20 kills per command (60 kills)
+    python bench/interrupt.py --quick         # 3 kills per command
 """
 
 from __future__ import annotations
@@ -47,12 +49,18 @@ def run_command(command: str, rounds: int, size: int, rng: np.random.Generator) 
     problems = []
     with tempfile.TemporaryDirectory() as folder:
         scenario = prepare(command, Path(folder), size=size)
-        elapsed, checksum = measure(scenario)
-        expected = None if command == "build" else checksum
-        print(f"{command}: an uncut run takes {elapsed:.2f} s; {rounds} rounds", flush=True)
-        for index in range(rounds):
+        timing = measure(scenario)
+        expected = None if command == "build" else timing.checksum
+        print(
+            f"{command}: an uncut run takes {timing.elapsed:.2f} s, writing from {timing.writing_from:.2f} s; "
+            f"{rounds} kills",
+            flush=True,
+        )
+        index = 0
+        while counts["kills"] < rounds and index < 3 * rounds:
+            index += 1
             replacing = index % 3 == 2
-            delay = float(rng.uniform(0.0, elapsed))
+            delay = timing.draw_delay(rng, in_write=index % 2 == 1)
             outcome = kill_once(scenario, delay, expected, previous=previous_file(scenario) if replacing else None)
             counts["kills" if outcome.killed else "ended first"] += 1
             if outcome.killed:
@@ -83,12 +91,12 @@ def table(rows: dict[str, dict]) -> str:
 
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    parser.add_argument("--rounds", type=int, default=20, help="kill rounds per command (default 20)")
+    parser.add_argument("--kills", type=int, default=20, help="kills per command (default 20)")
     parser.add_argument("--size", type=int, default=24, help="orbitals of the convert and wrap inputs (default 24)")
     parser.add_argument("--seed", type=int, default=2611)
-    parser.add_argument("--quick", action="store_true", help="3 rounds per command")
+    parser.add_argument("--quick", action="store_true", help="3 kills per command")
     args = parser.parse_args()
-    rounds = 3 if args.quick else args.rounds
+    rounds = 3 if args.quick else args.kills
     rng = np.random.default_rng(args.seed)
     rows, problems = {}, []
     for command in COMMANDS:

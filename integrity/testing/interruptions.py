@@ -3,7 +3,8 @@
 A :class:`Scenario` is one command line of ``convert``, ``wrap`` or ``build`` writing one target
 from its inputs (:func:`prepare` makes the inputs in a folder). :func:`kill_once` starts it as a
 subprocess (``python -m integrity``), sends SIGKILL after a given delay (callers draw it from a
-seeded generator within the command's measured run time, :func:`measure`), and returns a
+seeded generator within the command's measured run time or its write phase, :func:`measure`), and
+returns a
 :class:`KillOutcome`:
 
 * the target is ``absent``, ``previous`` (the file a round run with ``--overwrite`` set out to
@@ -143,20 +144,42 @@ def run(argv: list[str]) -> subprocess.CompletedProcess:
     return subprocess.CompletedProcess(process.args, process.returncode, out, err)
 
 
-def measure(scenario: Scenario) -> tuple[float, str]:
-    """Run the scenario uncut: its wall time (seconds, to draw kill delays from) and the checksum it writes.
+@dataclass(frozen=True)
+class Timing:
+    """An uncut run: ``elapsed`` seconds in all, writing its temporary file from ``writing_from`` on
+    (seconds after the start, as last seen by polling; ``elapsed`` when never seen)."""
 
-    The target is removed afterwards.
-    """
+    elapsed: float
+    writing_from: float
+    checksum: str
+
+    def draw_delay(self, rng, *, in_write: bool = False) -> float:
+        """A kill delay: uniform over the run, or over its write phase when ``in_write``."""
+        low = self.writing_from if in_write else 0.0
+        return float(rng.uniform(low, self.elapsed))
+
+
+def measure(scenario: Scenario, *, poll: float = 0.005) -> Timing:
+    """Run the scenario uncut: its wall time and write phase (to draw kill delays from), and the checksum
+    it writes. The target is removed afterwards. Timing only spreads the kills; no verdict uses it."""
     scenario.target.unlink(missing_ok=True)
+    folder = scenario.target.parent
     begin = time.perf_counter()
-    result = run(scenario.argv())
+    process = start(scenario.argv())
+    writing_from, seen = None, False
+    while process.poll() is None:
+        present = bool(temporaries(folder))
+        if present and not seen:
+            writing_from = time.perf_counter() - begin  # the start of the latest stretch with a temporary file
+        seen = present
+        time.sleep(poll)
     elapsed = time.perf_counter() - begin
-    if result.returncode != 0:
-        raise RuntimeError(f"the uninterrupted {scenario.command} failed: {result.stderr.strip()}")
+    _, err = process.communicate(timeout=RUN_LIMIT)
+    if process.returncode != 0:
+        raise RuntimeError(f"the uninterrupted {scenario.command} failed: {err.strip()}")
     checksum = stored_checksum(scenario.target)
     scenario.target.unlink()
-    return elapsed, checksum
+    return Timing(elapsed, elapsed if writing_from is None else writing_from, checksum)
 
 
 def stored_checksum(path) -> str:

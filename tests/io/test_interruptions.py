@@ -93,8 +93,8 @@ def measured(tmp_path_factory):
     found = {}
     for command in COMMANDS:
         scenario = prepare(command, tmp_path_factory.mktemp(command), size=12)
-        elapsed, checksum = measure(scenario)
-        found[command] = (scenario, elapsed, None if command == "build" else checksum)
+        timing = measure(scenario)
+        found[command] = (scenario, timing, None if command == "build" else timing.checksum)
     return found
 
 
@@ -102,9 +102,9 @@ def measured(tmp_path_factory):
 @pytest.mark.parametrize("replacing", [False, True], ids=["new", "overwrite"])
 @pytest.mark.parametrize("command", COMMANDS)
 def test_a_kill_at_a_random_moment_leaves_no_half_file_and_nothing_the_next_run_keeps(measured, command, replacing):
-    scenario, elapsed, checksum = measured[command]
+    scenario, timing, checksum = measured[command]
     rng = np.random.default_rng([COMMANDS.index(command), replacing])
-    delay = float(rng.uniform(0.0, elapsed))
+    delay = timing.draw_delay(rng, in_write=replacing)
     previous = previous_file(scenario) if replacing else None
     outcome = kill_once(scenario, delay, checksum, previous=previous)
     assert outcome.target in (("previous", "complete") if replacing else ("absent", "complete")), outcome
