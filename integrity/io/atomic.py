@@ -40,9 +40,12 @@ from integrity.errors import IntegrityError, OutputError, OverwriteError, Refuse
 
 PART_SUFFIX = ".part"
 _PART_NAME = re.compile(
-    r"^\.(?P<name>.+)\.(?P<pid>[0-9]+)@(?P<host>[A-Za-z0-9.-]+)\.(?P<token>[0-9a-f]{8})" + re.escape(PART_SUFFIX) + "$"
+    r"^\.(?P<name>.+)\.(?P<pid>[0-9]+)@(?P<host>[A-Za-z0-9.-]+)\.(?P<token>[0-9a-f]{8})"
+    + re.escape(PART_SUFFIX)
+    + r"\Z",
+    re.DOTALL,  # a file name may hold a newline
 )
-_NAME_KEPT = 100  # characters of the target's name kept in a temporary name (a name holds at most 255 bytes)
+_NAME_KEPT = 100  # bytes of the target's name kept in a temporary name (a name holds at most 255 bytes)
 _NO_HARD_LINKS = {
     errno.EPERM,
     errno.EMLINK,
@@ -65,7 +68,8 @@ def temporary_name(target_name: str) -> str:
     >>> part_owner(name) == (host_name(), os.getpid())
     True
     """
-    return f".{target_name[:_NAME_KEPT]}.{os.getpid()}@{host_name()}.{secrets.token_hex(4)}{PART_SUFFIX}"
+    kept = os.fsdecode(os.fsencode(target_name)[:_NAME_KEPT])
+    return f".{kept}.{os.getpid()}@{host_name()}.{secrets.token_hex(4)}{PART_SUFFIX}"
 
 
 def part_owner(name: str) -> tuple[str, int] | None:

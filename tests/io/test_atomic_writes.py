@@ -7,6 +7,8 @@ import os
 from pathlib import Path
 
 import pytest
+from hypothesis import given
+from hypothesis import strategies as st
 
 from integrity.errors import OutputError, OverwriteError, RefusedError
 from integrity.io import atomic
@@ -37,12 +39,21 @@ def _part(folder: Path, pid: int, host: str | None = None, name: str = "out.h5")
 # ---------------------------------------------------------------- temporary names and stale files
 
 
-@pytest.mark.parametrize("name", ["h2.h5", "a.b@c.d.json", "x" * 250 + ".h5", "with space.h5", ".hidden.h5"])
+@pytest.mark.parametrize(
+    "name", ["h2.h5", "a.b@c.d.json", "x" * 250 + ".h5", "with space.h5", ".hidden.h5", "é" * 120 + ".h5", "a\nb.h5"]
+)
 def test_a_temporary_name_names_its_owner_and_fits_a_file_name(name):
     tmp = temporary_name(name)
     assert part_owner(tmp) == (host_name(), os.getpid())
     assert tmp.startswith(".") and tmp.endswith(".part")
-    assert len(tmp.encode()) <= 255
+    assert len(os.fsencode(tmp)) <= 255
+
+
+@given(st.text(st.characters(blacklist_characters="/\x00", blacklist_categories=("Cs",)), min_size=1, max_size=300))
+def test_every_temporary_name_is_read_back_as_this_process_s(name):
+    tmp = temporary_name(name)
+    assert part_owner(tmp) == (host_name(), os.getpid())
+    assert "/" not in tmp and "\x00" not in tmp and len(os.fsencode(tmp)) <= 255
 
 
 def test_the_temporary_file_of_a_write_carries_this_process_id(tmp_path):
@@ -187,6 +198,14 @@ def test_an_hdf5_error_quoting_an_errno_is_one_error(tmp_path):
 def test_an_error_that_is_not_the_system_s_passes_unchanged(tmp_path):
     with pytest.raises(RuntimeError, match="a bug"), atomic_output(tmp_path / "o.h5"):
         raise RuntimeError("a bug")
+    assert list(tmp_path.iterdir()) == []
+
+
+def test_a_temporary_file_removed_by_someone_else_fails_the_write_in_one_line(tmp_path):
+    with pytest.raises(OutputError, match=r"out\.h5: cannot write it: No such file or directory"):
+        with atomic_output(tmp_path / "out.h5") as tmp:
+            tmp.write_text("data")
+            tmp.unlink()  # what a cleaner that took this writer for dead would do
     assert list(tmp_path.iterdir()) == []
 
 
