@@ -200,6 +200,23 @@ def test_a_read_only_folder_is_one_line_naming_the_reason(runner, tmp_path, comm
         folder.chmod(0o700)
 
 
+@pytest.mark.skipif(shutil.which("chattr") is None, reason="needs chattr")
+@pytest.mark.parametrize("command", ["convert", "wrap"])
+def test_a_folder_that_takes_no_new_file_is_one_line_even_for_root(runner, tmp_path, command):
+    """An immutable folder (chattr +i) refuses new files to every user, root included."""
+    source = _source(command, tmp_path)
+    folder = tmp_path / "locked"
+    folder.mkdir()
+    if subprocess.run(["chattr", "+i", str(folder)], capture_output=True).returncode != 0:
+        pytest.skip("this file system or user cannot make a folder immutable")
+    try:
+        line = _one_error_line(runner.invoke(main, _command(command, source, folder / "out.h5")))
+        assert line == (f"error: {folder / 'out.h5'}: cannot create a file in folder '{folder}': {os.strerror(1)}")
+        assert list(folder.iterdir()) == []
+    finally:
+        subprocess.run(["chattr", "-i", str(folder)], check=True)
+
+
 # ---------------------------------------------------------------- two writers, one OUT
 
 
