@@ -157,7 +157,11 @@ def require_output(path, *, overwrite: bool = False, inputs=()) -> Path:
     target = Path(path)
     for source in inputs:
         if same_file(source, target):
-            link = " (through a link)" if str(Path(source)) != str(target) else ""
+            link = ""
+            if target.is_symlink():
+                link = " (OUT is a symbolic link to it)"
+            elif target.resolve() != Path(source).resolve():
+                link = " (OUT is a hard link to it)"
             raise RefusedError(
                 None,
                 f"is the input file {str(source)!r}{link}; a command never overwrites its input "
@@ -207,10 +211,11 @@ def atomic_output(path, *, overwrite: bool = False):
                 _move_without_clobbering(tmp, target)
         except IntegrityError:
             raise
-        except OSError as err:
-            raise _write_error(err, target) from err
-        except RuntimeError as err:  # HDF5 reports a failed write while closing as RuntimeError, quoting errno
-            if _errno_in_text(str(err)) is None:
+        except (OSError, RuntimeError) as err:
+            # the system's refusals carry an errno (HDF5 quotes it in its text, and reports a failed
+            # write while closing as RuntimeError); anything else (a damaged input read during the
+            # write) passes unchanged, so it is not reported as a failure to write
+            if getattr(err, "errno", None) is None and _errno_in_text(str(err)) is None:
                 raise
             raise _write_error(err, target) from err
         _flush_folder(folder)

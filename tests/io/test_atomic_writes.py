@@ -101,9 +101,16 @@ def test_the_input_is_refused_as_output_by_path_symbolic_link_and_hard_link(tmp_
     (tmp_path / "soft.h5").symlink_to(source)
     os.link(source, tmp_path / "hard.h5")
     (tmp_path / "sub").mkdir()
-    for out in (source, tmp_path / "soft.h5", tmp_path / "hard.h5", tmp_path / "sub" / ".." / "in.h5"):
-        with pytest.raises(RefusedError, match=r"is the input file .*not even with --overwrite"):
+    cases = {
+        source: "",
+        tmp_path / "soft.h5": " (OUT is a symbolic link to it)",
+        tmp_path / "hard.h5": " (OUT is a hard link to it)",
+        tmp_path / "sub" / ".." / "in.h5": "",
+    }
+    for out, link in cases.items():
+        with pytest.raises(RefusedError, match=r"not even with --overwrite") as caught:
             require_output(out, overwrite=True, inputs=[source])
+        assert f"{out}: is the input file {str(source)!r}{link};" in str(caught.value)
     assert source.read_text() == "input"
 
 
@@ -195,9 +202,10 @@ def test_an_hdf5_error_quoting_an_errno_is_one_error(tmp_path):
     assert list(tmp_path.iterdir()) == []
 
 
-def test_an_error_that_is_not_the_system_s_passes_unchanged(tmp_path):
-    with pytest.raises(RuntimeError, match="a bug"), atomic_output(tmp_path / "o.h5"):
-        raise RuntimeError("a bug")
+@pytest.mark.parametrize("error", [RuntimeError("a bug"), OSError("Can't read data (a bug)")])
+def test_an_error_that_is_not_the_system_s_passes_unchanged(tmp_path, error):
+    with pytest.raises(type(error), match="a bug"), atomic_output(tmp_path / "o.h5"):
+        raise error
     assert list(tmp_path.iterdir()) == []
 
 
