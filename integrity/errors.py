@@ -19,6 +19,7 @@ __all__ = [
     "ContainerError",
     "FieldError",
     "IntegrityError",
+    "OutputError",
     "OverwriteError",
     "RefusedError",
     "UnsupportedError",
@@ -64,6 +65,13 @@ class ContainerError(IntegrityError):
 
 class OverwriteError(IntegrityError, FileExistsError):
     """The output exists and overwriting was not asked for."""
+
+
+class OutputError(IntegrityError, OSError):
+    """The output cannot be written: a missing or read-only folder, a full disk, a file-size limit.
+
+    The message names the path and the operating system's reason (``strerror``).
+    """
 
 
 class RefusedError(IntegrityError):

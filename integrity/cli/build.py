@@ -2,11 +2,9 @@
 
 from __future__ import annotations
 
-from pathlib import Path
-
 import click
 
-from integrity.cli.options import guarded, options_named, overwrite_option
+from integrity.cli.options import guarded, options_named, overwrite_option, require_new_output
 from integrity.cli.render import printable
 
 
@@ -80,8 +78,8 @@ def build(
     from integrity.producers import build as build_hamiltonian
     from integrity.producers.molecule import require_buildable
 
-    _require_new_output(out, overwrite)
     source = geometry[0] if len(geometry) == 1 and geometry[0].lower().endswith(".xyz") else list(geometry)
+    require_new_output(out, overwrite, inputs=[source] if isinstance(source, str) else [])
     with options_named({"two_s": "--two-s", "charge": "--charge", "active": "--cas"}):
         require_buildable(read_geometry(source), unit=unit, charge=charge, two_s=two_s, active=cas)
     ham = build_hamiltonian(
@@ -100,17 +98,3 @@ def build(
     energies = ", ".join(f"{r.label} {r.energy:.10f}" for r in ham.references)
     group = f", point group {ham.orbitals.point_group}" if ham.orbitals.point_group else ""
     click.echo(f"wrote {printable(out)}: {ham.n} {ham.basis} orbitals{group}, {energies}")
-
-
-def _require_new_output(out, overwrite: bool) -> None:
-    """What the write would refuse, refused before the SCF: an unknown extension, an existing OUT, no folder."""
-    from integrity.errors import ContainerError, OverwriteError
-    from integrity.io import container_of
-
-    container_of(out)
-    path = Path(out)
-    if (path.exists() or path.is_symlink()) and not overwrite:
-        raise OverwriteError(None, "exists; give --overwrite to replace it", str(out))
-    folder = path.parent if str(path.parent) else Path(".")
-    if not folder.is_dir():
-        raise ContainerError(None, f"folder {str(folder)!r} does not exist", str(out))

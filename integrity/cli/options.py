@@ -276,5 +276,16 @@ def solver_options(func):
     )(func)
 
 
+def require_new_output(out, overwrite: bool, inputs=()) -> None:
+    """The output guard of every command that writes, run before any work: OUT's extension, then
+    :func:`integrity.io.atomic.require_output` (not an input, not a dangling link, not existing
+    without --overwrite, a folder that takes a new file)."""
+    from integrity.io import container_of
+    from integrity.io.atomic import require_output
+
+    container_of(out)
+    require_output(out, overwrite=overwrite, inputs=inputs)
+
+
 def overwrite_option():
     return click.option("--overwrite", is_flag=True, help="Replace OUT if it exists (never the input).")

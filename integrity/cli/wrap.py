@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import click
 
-from integrity.cli.options import FINITE, guarded, options_named, overwrite_option
+from integrity.cli.options import FINITE, guarded, options_named, overwrite_option, require_new_output
 from integrity.cli.render import printable
 
 
@@ -97,6 +97,7 @@ def wrap(
     from integrity.io import save
     from integrity.producers import wrap_arrays
 
+    require_new_output(out, overwrite, inputs=[arrays])
     with options_named({"alpha": "--alpha", "beta": "--beta"}):
         ham = wrap_arrays(
             arrays,

@@ -23,25 +23,16 @@ element (by :mod:`integrity.io.jsonfile`).
 
 from __future__ import annotations
 
-import os
 from collections.abc import Callable
 from pathlib import Path
 
 from integrity.convert.history import dated, step_entry, with_history
 from integrity.convert.pipeline import ConversionResult, convert, planned_size
 from integrity.convert.reduce import reduce_active_space
-from integrity.errors import BudgetError, IntegrityError, RefusedError
+from integrity.errors import BudgetError, IntegrityError
 from integrity.io import DEFAULT_MEMORY, container_of, format_bytes, load, save
+from integrity.io.atomic import require_output
 from integrity.model.fingerprint import fingerprint
-
-
-def _same_file(first: Path, second: Path) -> bool:
-    if first.resolve() == second.resolve():
-        return True
-    try:
-        return os.path.samefile(first, second)
-    except OSError:
-        return False
 
 
 def convert_file(
@@ -120,19 +111,15 @@ def transform_file(
 ) -> ConversionResult:
     """Read ``in_path``, apply ``transform`` (Hamiltonian -> ConversionResult), write ``out_path``.
 
-    The guards of every command that writes a new file from an old one: the
+    The guards of every command that writes a new file from an old one, run
+    before the input is read (:func:`integrity.io.atomic.require_output`): the
     output is never the input (not even with ``overwrite``), an existing output
-    is kept unless ``overwrite``, the write is atomic, and a container change
-    is one more history entry.
+    is kept unless ``overwrite``, its folder must take a new file; the write is
+    atomic, and a container change is one more history entry.
     """
     in_path, out_path = Path(in_path), Path(out_path)
-    if _same_file(in_path, out_path):
-        raise RefusedError(
-            None,
-            f"the output {out_path} is the input file {in_path}; a conversion "
-            "never overwrites its input (not even with --overwrite), write to a new path",
-            str(out_path),
-        )
+    container_of(out_path)
+    require_output(out_path, overwrite=overwrite, inputs=[in_path])
     source, target = container_of(in_path), container_of(out_path)
     ham = load(in_path, memory=memory)
     try:

@@ -3,6 +3,8 @@
 :mod:`~integrity.testing.hamiltonians` builds :class:`~integrity.model.Hamiltonian`
 values with exact symmetry; :mod:`~integrity.testing.arrays` builds integral
 arrays: the Hubbard model, random Hamiltonians, orbital rotations.
+:mod:`~integrity.testing.interruptions` (imported by name, not re-exported) kills
+real writing commands at random moments and judges what they leave.
 """
 
 from integrity.testing.arrays import (

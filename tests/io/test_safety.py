@@ -7,7 +7,7 @@ import pytest
 from plain_format import assert_same_bits, random_tree, write_plain_hdf5, write_plain_json
 
 from integrity.cli import main
-from integrity.errors import ContainerError, IntegrityError, OverwriteError
+from integrity.errors import ContainerError, IntegrityError, OutputError, OverwriteError
 from integrity.io import hdf5, jsonfile, load, save
 from integrity.model.hamiltonian import Electrons, Hamiltonian, Orbitals, TwoElectron
 
@@ -109,7 +109,7 @@ def test_a_file_that_appears_during_the_write_is_not_replaced(tmp_path, rng, mon
 
 
 def test_writing_into_a_missing_folder_is_refused_clearly(tmp_path, rng):
-    with pytest.raises(ContainerError, match="does not exist"):
+    with pytest.raises(OutputError, match="does not exist"):
         save(_hamiltonian(rng), tmp_path / "nowhere" / "out.h5")
     assert list(tmp_path.iterdir()) == []
 
