@@ -20,8 +20,8 @@ from pathlib import Path
 
 from integrity.errors import ContainerError, FieldError, IntegrityError
 from integrity.io import hdf5, jsonfile
-from integrity.io.discovery import dangling_link_reason, is_dangling_link
 from integrity.io.content import content_from_hamiltonian, hamiltonian_from_content
+from integrity.io.discovery import dangling_link_reason, is_dangling_link
 from integrity.io.document import DEFAULT_MEMORY, Document
 from integrity.io.schema import file_problems
 from integrity.model.fingerprint import fingerprint

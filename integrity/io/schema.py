@@ -140,8 +140,10 @@ def number_problems(tree) -> list[SchemaProblem]:
     they overflow). Array values (``data``, ``real``, ``imag`` beside a ``shape``) may be
     non-finite here: ``arrays.finite`` reports those. Walks without recursion.
 
-    >>> [(p.path, p.message) for p in number_problems({"core_energy": float("inf"), "orbitals": {"count": 10**30}})]
-    [(('core_energy',), 'inf is not a finite number'), (('orbitals', 'count'), '1000000000000...00000000000000 is beyond the 64-bit integer range')]
+    >>> for problem in number_problems({"core_energy": float("inf"), "orbitals": {"count": 10**30}}):
+    ...     print(problem.path, problem.message)
+    ('core_energy',) inf is not a finite number
+    ('orbitals', 'count') 1000000000000...00000000000000 is beyond the 64-bit integer range
     """
     found = []
     pending = [((), tree, False)]
