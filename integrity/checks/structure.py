@@ -85,7 +85,7 @@ def declared_arrays(doc) -> dict | None:
     out = {}
     for key in ("one_electron", "two_electron"):
         node = tree.get(key)
-        if not isinstance(node, dict) or not isinstance(node.get("shape"), list):
+        if not isinstance(node, dict) or not _is_shape(node.get("shape")):
             return None
         if doc.container == "hdf5":
             dtype = node.get("dtype")
@@ -93,6 +93,11 @@ def declared_arrays(doc) -> dict | None:
             dtype = "complex128" if "real" in node else "float64"
         out[key] = {"shape": tuple(node["shape"]), "dtype": dtype, "node": node}
     return out
+
+
+def _is_shape(value) -> bool:
+    """A list of non-negative integers (booleans and integers beyond 64 bits are not extents)."""
+    return isinstance(value, list) and all(type(v) is int and 0 <= v < 2**63 for v in value)
 
 
 def _json_length_problems(doc, declared) -> list[tuple[str, str]]:
@@ -122,8 +127,18 @@ def check_shapes(ham, ctx) -> Result:
         orbitals = tree.get("orbitals") if isinstance(tree.get("orbitals"), dict) else {}
         two_node = tree.get("two_electron") if isinstance(tree.get("two_electron"), dict) else {}
         count, basis = orbitals.get("count"), orbitals.get("basis")
-        if declared is None or not isinstance(count, int) or basis is None:
-            return skipped("the file does not state orbitals.count, basis and both array shapes")
+        flags = (two_node.get("storage"), two_node.get("notation"))
+        if (
+            declared is None
+            or type(count) is not int
+            or not 0 < count < 2**31
+            or not isinstance(basis, str)
+            or not all(flag is None or isinstance(flag, str) for flag in flags)
+        ):
+            return skipped(
+                "the file does not state orbitals.count, basis and both array shapes in a form "
+                "this check can use (the schema check says what is wrong)"
+            )
         one, two = declared["one_electron"], declared["two_electron"]
         problems = list(
             shape_problems(
@@ -169,7 +184,7 @@ def check_shapes(ham, ctx) -> Result:
 def _dtype(name):
     try:
         return np.dtype(name)
-    except TypeError:
+    except (TypeError, ValueError):
         return np.dtype("V1")
 
 
