@@ -121,7 +121,7 @@ def schema_problems(tree, entry: str | None = None, name: str = "hamiltonian") -
     for error in _validator(name, entry).iter_errors(tree):
         found.extend(_leaves(error))
     if name == "hamiltonian":
-        found.extend(number_problems(tree))
+        found.extend(value_problems(tree))
     unique = {(p.path, p.message): p for p in found}
     return sorted(unique.values(), key=lambda p: tuple(str(k) for k in p.path))
 
@@ -134,13 +134,14 @@ def file_problems(tree, entry: str, notes=()) -> list[SchemaProblem]:
     return sorted(found, key=lambda p: tuple(str(k) for k in p.path))
 
 
-def number_problems(tree) -> list[SchemaProblem]:
-    """Numbers JSON Schema cannot judge: non-finite floats (``1e400`` parses to infinity) in
-    metadata, and integers beyond 64 bits anywhere (they have no HDF5 type, and as floats
-    they overflow). Array values (``data``, ``real``, ``imag`` beside a ``shape``) may be
-    non-finite here: ``arrays.finite`` reports those. Walks without recursion.
+def value_problems(tree) -> list[SchemaProblem]:
+    """Values JSON Schema cannot judge: non-finite floats (``1e400`` parses to infinity) in
+    metadata, integers beyond 64 bits anywhere (they have no HDF5 type, and as floats
+    they overflow), and the NUL character in a key or a string (HDF5 cannot hold it).
+    Array values (``data``, ``real``, ``imag`` beside a ``shape``) may be non-finite
+    here: ``arrays.finite`` reports those. Walks without recursion.
 
-    >>> for problem in number_problems({"core_energy": float("inf"), "orbitals": {"count": 10**30}}):
+    >>> for problem in value_problems({"core_energy": float("inf"), "orbitals": {"count": 10**30}}):
     ...     print(problem.path, problem.message)
     ('core_energy',) inf is not a finite number
     ('orbitals', 'count') 1000000000000...00000000000000 is beyond the 64-bit integer range
@@ -150,6 +151,11 @@ def number_problems(tree) -> list[SchemaProblem]:
     while pending:
         path, node, values = pending.pop()
         if isinstance(node, dict):
+            found += [
+                SchemaProblem((*path, k), "nul", "the key contains a NUL character, which HDF5 names cannot hold")
+                for k in node
+                if isinstance(k, str) and "\x00" in k
+            ]
             is_array = "shape" in node
             pending += [((*path, k), v, is_array and k in _ARRAY_VALUE_KEYS) for k, v in node.items()]
         elif isinstance(node, list):
@@ -158,6 +164,8 @@ def number_problems(tree) -> list[SchemaProblem]:
             pending += [((*path, i), v, values) for i, v in enumerate(node)]
         elif type(node) is float and not values and not math.isfinite(node):
             found.append(SchemaProblem(path, "finite", f"{node} is not a finite number"))
+        elif isinstance(node, str) and "\x00" in node:
+            found.append(SchemaProblem(path, "nul", "contains a NUL character, which HDF5 strings cannot hold"))
         elif type(node) is int and not INT64[0] <= node <= INT64[1]:
             found.append(SchemaProblem(path, "int64", f"{excerpt(node)} is beyond the 64-bit integer range"))
     return sorted(found, key=lambda p: tuple(str(k) for k in p.path))

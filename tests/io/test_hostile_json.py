@@ -198,3 +198,20 @@ def test_a_dangling_link_met_in_a_folder_is_reported_not_skipped(runner, tmp_pat
     (gone,) = [r for r in reports if r["path"].endswith("b.h5")]
     assert gone["status"] == "unreadable" and "nowhere.h5, which does not exist" in gone["error"]
     assert check(folder / "b.h5").status == "unreadable"
+
+
+def test_a_nul_character_in_a_provenance_key_is_a_schema_finding(runner, tmp_path, document):
+    document["provenance"]["ab\x00cd"] = 1
+    path = written(tmp_path, json.dumps(document))
+    status, (report,) = checked(runner, path)
+    schema = result_of(report, "schema")
+    assert status == 1 and schema["status"] == "fail" and "NUL" in schema["message"]
+
+
+def test_a_400_digit_integer_among_array_values_is_a_schema_finding(runner, tmp_path, document):
+    document["two_electron"]["data"][3] = -(10**400)
+    path = written(tmp_path, json.dumps(document))
+    _, (report,) = checked(runner, path)
+    schema = result_of(report, "schema")
+    assert schema["status"] == "fail" and schema["where"]["field"] == "two_electron.data[3]"
+    assert "64-bit" in one_error_line(runner, ["show", str(path)])
