@@ -129,7 +129,12 @@ def _read_tree(handle: h5py.File, arrays: dict, notes: list, budget: int | None 
     (path, message) for the schema check. With a ``budget`` (bytes) the arrays
     are to be read into memory, so a declared size beyond it is refused first.
     """
-    tree = _attributes(handle, "/")
+    try:
+        tree = _attributes(handle, "/")
+    except IntegrityError:
+        raise
+    except _H5PY_ERRORS as err:
+        raise _damaged("/", err) from None
     seen = {handle.id}
     pending = [(handle, (), tree, (handle.id,))]
     while pending:
