@@ -101,10 +101,11 @@ def check(source, options: CheckOptions | None = None, **keywords) -> FileReport
     with document:
         missing = [key for key in ("one_electron", "two_electron") if key not in document.tree]
         if missing:
+            why = dict(document.notes).get((missing[0],), "missing dataset")  # e.g. a soft link to nothing
             return FileReport(
                 path,
                 "unreadable",
-                error=f"{path}: {document.locate((missing[0],))}: missing dataset; nothing to check without it",
+                error=f"{path}: {document.locate((missing[0],))}: {why}; nothing to check without it",
             )
         ham, build_error = None, _schema_error(document)
         if build_error is None:

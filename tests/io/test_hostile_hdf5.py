@@ -336,3 +336,17 @@ def test_one_bad_file_in_a_folder_leaves_the_reports_of_the_others(runner, good,
     assert reports[str(looped)]["status"] == "unreadable"
     assert reports[str(intact)]["status"] in ("pass", "fail")
     assert reports[str(intact)]["checks"], "the intact file was judged"
+
+
+def test_an_array_replaced_by_a_soft_link_to_nowhere_is_unreadable_naming_the_link(runner, good):
+    path, _ = good
+
+    def edit(handle):
+        del handle["one_electron"]
+        handle["one_electron"] = h5py.SoftLink("/moved/one_electron")
+
+    edited(path, edit)
+    (report,) = checked(runner, path)
+    assert report["status"] == "unreadable"
+    assert "/one_electron: a soft link to /moved/one_electron, which does not exist" in report["error"]
+    assert "/one_electron" in one_error_line(runner, ["show", str(path)])
