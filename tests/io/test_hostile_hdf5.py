@@ -350,3 +350,13 @@ def test_an_array_replaced_by_a_soft_link_to_nowhere_is_unreadable_naming_the_li
     assert report["status"] == "unreadable"
     assert "/one_electron: a soft link to /moved/one_electron, which does not exist" in report["error"]
     assert "/one_electron" in one_error_line(runner, ["show", str(path)])
+
+
+@pytest.mark.parametrize("value", [np.nan, np.inf])
+def test_a_non_finite_attribute_is_a_schema_finding_naming_it(runner, good, value):
+    path, _ = good
+    edited(path, lambda h: h["references/hf"].attrs.__setitem__("energy", value))
+    (report,) = checked(runner, path)
+    schema = next(c for c in report["checks"] if c["id"] == "schema")
+    assert schema["status"] == "fail" and schema["where"]["field"] == "/references/hf@energy"
+    assert "/references/hf@energy" in one_error_line(runner, ["show", str(path)])
