@@ -24,6 +24,7 @@ from collections.abc import Callable
 from dataclasses import dataclass, field, replace
 from typing import Any
 
+from integrity.errors import IntegrityError
 from integrity.io import DEFAULT_MEMORY
 
 STATUSES = ("pass", "fail", "warn", "skip")
@@ -292,9 +293,12 @@ def check_ids() -> list[str]:
 
 
 def run_one(spec: CheckSpec, ham, ctx: Context) -> Result:
-    """Run one check; an exception becomes this check's fail with the error text."""
+    """Run one check; an exception becomes this check's fail with the error text (an
+    IntegrityError names the field it is about; any other is a bug of the check)."""
     try:
         result = spec.function(ham, ctx)
+    except IntegrityError as err:  # the file holds what the check cannot use: a finding naming the field
+        result = failed(f"cannot be judged: {err}", where=at_field(err.field))
     except Exception as err:  # a check must never stop the others
         frame = traceback.extract_tb(err.__traceback__)[-1]
         result = failed(

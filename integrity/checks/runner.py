@@ -21,11 +21,12 @@ from functools import partial
 
 import numpy as np
 
-from integrity.checks.registry import REGISTRY, Context, Result, check_ids, run_one, skipped, stamp
+from integrity.checks.registry import REGISTRY, Context, Result, check_ids, failed, run_one, skipped, stamp
 from integrity.checks.report import FileReport
 from integrity.errors import FieldError, IntegrityError
 from integrity.io import DEFAULT_MEMORY, find_files, open_document
 from integrity.io.content import hamiltonian_from_content
+from integrity.io.schema import file_problems
 from integrity.model.fingerprint import fingerprint
 from integrity.model.hamiltonian import Hamiltonian
 from integrity.model.slabs import slab_budget
@@ -100,19 +101,37 @@ def check(source, options: CheckOptions | None = None, **keywords) -> FileReport
     with document:
         missing = [key for key in ("one_electron", "two_electron") if key not in document.tree]
         if missing:
+            why = dict(document.notes).get((missing[0],), "missing dataset")  # e.g. a soft link to nothing
             return FileReport(
                 path,
                 "unreadable",
-                error=f"{path}: {document.locate((missing[0],))}: missing dataset; nothing to check without it",
+                error=f"{path}: {document.locate((missing[0],))}: {why}; nothing to check without it",
             )
-        ham, build_error = None, None
-        try:
-            ham = hamiltonian_from_content(document.content)
-        except FieldError as err:
-            build_error = err
-        except IntegrityError as err:
-            return FileReport(path, "unreadable", error=str(err.in_file(path)))
+        ham, build_error = None, _schema_error(document)
+        if build_error is None:
+            try:
+                ham = hamiltonian_from_content(document.content)
+            except FieldError as err:
+                build_error = err
+            except IntegrityError as err:
+                return FileReport(path, "unreadable", error=str(err.in_file(path)))
+            except Exception as err:  # the schema passed: a hole in it, reported rather than raised
+                build_error = FieldError(None, f"the metadata cannot be assembled ({type(err).__name__}: {err})")
         return _judge(ham, path, ids, options, document=document, build_error=build_error)
+
+
+def _schema_error(document) -> FieldError | None:
+    """The first schema problem of an opened file (the ``schema`` check lists them all), or None.
+
+    The model is built only from metadata that follows the schema, so a wrong type
+    (an integer where a list belongs) is a finding, not an exception.
+    """
+    problems = file_problems(document.tree, document.schema_entry, document.notes)
+    if not problems:
+        return None
+    first = problems[0]
+    more = f" (and {len(problems) - 1} more schema problems)" if len(problems) > 1 else ""
+    return FieldError(document.locate(first.path), first.message + more)
 
 
 def check_paths(paths, options: CheckOptions | None = None, **keywords) -> list[FileReport]:
@@ -154,15 +173,19 @@ def _judge(ham, path, ids, options: CheckOptions, *, document=None, build_error=
                     results.append(_stamped(check_id, f"not run: {finite.message.split(';')[0]}"))
                     continue
             results.append(run_one(spec, ham, ctx))
+    digest = next((r.details.get("computed") for r in results if r.id == "checksum" and r.details), None)
+    if digest is None and ham is not None and options.fingerprint and "checksum" not in ids:
+        try:
+            digest = fingerprint(ham)
+        except Exception as err:  # reading the arrays failed: a finding, like any check's failure
+            results.append(
+                stamp(
+                    REGISTRY["checksum"], failed(f"the fingerprint could not be computed: {type(err).__name__}: {err}")
+                )
+            )
     bad = any(r.status == "fail" for r in results) or (options.strict and any(r.status == "warn" for r in results))
     if ham is None and build_error is not None:
         bad = True
-    digest = next((r.details.get("computed") for r in results if r.id == "checksum" and r.details), None)
-    if digest is None and ham is not None and options.fingerprint:
-        try:
-            digest = fingerprint(ham)
-        except IntegrityError:
-            digest = None
     return FileReport(path, "fail" if bad else "pass", results, digest)
 
 

@@ -18,7 +18,7 @@ from integrity.checks.registry import (
     skipped,
     warned,
 )
-from integrity.io.schema import schema_problems
+from integrity.io.schema import file_problems
 from integrity.model.fingerprint import fingerprint
 from integrity.model.hamiltonian import shape_problems
 from integrity.model.slabs import current_slab_bytes
@@ -51,10 +51,10 @@ def check_schema(ham, ctx) -> Result:
         from integrity.io.content import content_from_hamiltonian
         from integrity.io.hdf5 import location, tree_of_content
 
-        tree, entry, locate = tree_of_content(content_from_hamiltonian(ham)), "hdf5_tree", location
+        tree, entry, locate, notes = tree_of_content(content_from_hamiltonian(ham)), "hdf5_tree", location, ()
     else:
-        tree, entry, locate = doc.tree, doc.schema_entry, doc.locate
-    problems = schema_problems(tree, entry)
+        tree, entry, locate, notes = doc.tree, doc.schema_entry, doc.locate, doc.notes
+    problems = file_problems(tree, entry, notes)
     build_error = getattr(ctx, "build_error", None)
     if problems:
         text, details = _listing(problems, locate)
@@ -85,7 +85,7 @@ def declared_arrays(doc) -> dict | None:
     out = {}
     for key in ("one_electron", "two_electron"):
         node = tree.get(key)
-        if not isinstance(node, dict) or not isinstance(node.get("shape"), list):
+        if not isinstance(node, dict) or not _is_shape(node.get("shape")):
             return None
         if doc.container == "hdf5":
             dtype = node.get("dtype")
@@ -93,6 +93,11 @@ def declared_arrays(doc) -> dict | None:
             dtype = "complex128" if "real" in node else "float64"
         out[key] = {"shape": tuple(node["shape"]), "dtype": dtype, "node": node}
     return out
+
+
+def _is_shape(value) -> bool:
+    """A list of non-negative integers (booleans and integers beyond 64 bits are not extents)."""
+    return isinstance(value, list) and all(type(v) is int and 0 <= v < 2**63 for v in value)
 
 
 def _json_length_problems(doc, declared) -> list[tuple[str, str]]:
@@ -122,8 +127,18 @@ def check_shapes(ham, ctx) -> Result:
         orbitals = tree.get("orbitals") if isinstance(tree.get("orbitals"), dict) else {}
         two_node = tree.get("two_electron") if isinstance(tree.get("two_electron"), dict) else {}
         count, basis = orbitals.get("count"), orbitals.get("basis")
-        if declared is None or not isinstance(count, int) or basis is None:
-            return skipped("the file does not state orbitals.count, basis and both array shapes")
+        flags = (two_node.get("storage"), two_node.get("notation"))
+        if (
+            declared is None
+            or type(count) is not int
+            or not 0 < count < 2**31
+            or not isinstance(basis, str)
+            or not all(flag is None or isinstance(flag, str) for flag in flags)
+        ):
+            return skipped(
+                "the file does not state orbitals.count, basis and both array shapes in a form "
+                "this check can use (the schema check says what is wrong)"
+            )
         one, two = declared["one_electron"], declared["two_electron"]
         problems = list(
             shape_problems(
@@ -169,7 +184,7 @@ def check_shapes(ham, ctx) -> Result:
 def _dtype(name):
     try:
         return np.dtype(name)
-    except TypeError:
+    except (TypeError, ValueError):
         return np.dtype("V1")
 
 
@@ -201,25 +216,49 @@ def check_finite(ham, ctx) -> Result:
 
 
 def _first_non_finite(array, slab_bytes):
-    """(first index, count) of non-finite values, reading along the first axis in slabs."""
+    """(first index, count) of non-finite values, reading blocks of at most ``slab_bytes``."""
     shape = tuple(array.shape)
     if not shape:
         value = np.asarray(array[()])
         return (None, 0) if np.isfinite(value) else ((), 1)
-    row_bytes = max(1, int(np.prod(shape[1:], dtype=np.int64)) * np.dtype(array.dtype).itemsize)
-    rows = max(1, slab_bytes // row_bytes)
     first, count = None, 0
-    for start in range(0, shape[0], rows):
-        block = np.asarray(array[start : start + rows])
+    for key, origin in blocks(shape, np.dtype(array.dtype).itemsize, slab_bytes):
+        block = np.asarray(array[key])
         if np.isfinite(np.sum(block)):
             continue  # a NaN or an infinity would make the sum non-finite
         bad = ~np.isfinite(block)
         found = int(np.count_nonzero(bad))
         if found and first is None:
-            local = np.argwhere(bad)[0]
-            first = (int(local[0]) + start, *(int(i) for i in local[1:]))
+            local = [int(i) for i in np.argwhere(bad)[0]]
+            first = (*origin[:-1], origin[-1] + local[0], *local[1:])
         count += found
     return first, count
+
+
+def blocks(shape: tuple, itemsize: int, budget: int):
+    """``(key, origin)`` of blocks covering an array in C order, each at most ``budget`` bytes.
+
+    A block is a run of indices along one axis with every later axis whole; ``key``
+    indexes it (integers for the earlier axes, then a slice) and ``origin`` is the
+    index of its first element along the axes up to the sliced one. One element is
+    the smallest block, so even a budget below one row of an n^4 array is kept.
+
+    >>> [key for key, _ in blocks((2, 3), 8, 16)]  # a row of 3 float64 is 24 bytes: split the rows
+    [(0, slice(0, 2, None)), (0, slice(2, 3, None)), (1, slice(0, 2, None)), (1, slice(2, 3, None))]
+    >>> [key for key, _ in blocks((2, 3), 8, 24)] == [(slice(0, 1, None),), (slice(1, 2, None),)]
+    True
+    >>> [origin for _, origin in blocks((2, 2, 2), 8, 8)][:3]
+    [(0, 0, 0), (0, 0, 1), (0, 1, 0)]
+    """
+    axis = 0
+    while axis < len(shape) - 1 and math.prod(shape[axis + 1 :]) * itemsize > budget:
+        axis += 1
+    inner = math.prod(shape[axis + 1 :]) * itemsize
+    rows = max(1, budget // max(1, inner))
+    for outer in np.ndindex(*shape[:axis]):
+        outer = tuple(int(i) for i in outer)
+        for start in range(0, shape[axis], rows):
+            yield (*outer, slice(start, min(start + rows, shape[axis]))), (*outer, start)
 
 
 @register("checksum")

@@ -22,6 +22,18 @@ from integrity.cli.options import (
 from integrity.cli.render import as_json, batch_entry_text, batch_progress_text, check_list_text
 
 
+class _ExistingOrLink(click.Path):
+    """An existing path, or a symbolic link to nothing: that one is judged (and reported
+    unreadable, naming its target) rather than refused as a usage error."""
+
+    def convert(self, value, param, ctx):
+        from integrity.io.discovery import is_dangling_link
+
+        if is_dangling_link(value):
+            return value
+        return super().convert(value, param, ctx)
+
+
 def _list_checks(ctx, param, value):
     """Eager ``--list``: print the catalogue and stop, before PATH is required."""
     if not value or ctx.resilient_parsing:
@@ -33,7 +45,7 @@ def _list_checks(ctx, param, value):
 
 
 @click.command(short_help="Check Hamiltonian files and folders.")
-@click.argument("paths", nargs=-1, required=True, type=click.Path(exists=True))
+@click.argument("paths", nargs=-1, required=True, type=_ExistingOrLink(exists=True))
 @format_option("Text for people, JSON (schemas/report.schema.json) for programs.")
 @click.option("--only", multiple=True, metavar="ID", help="Run this check and no others not named (repeatable).")
 @click.option("--without", multiple=True, metavar="ID", help="Leave this check out (repeatable).")

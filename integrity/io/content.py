@@ -16,6 +16,7 @@ from typing import Any
 import numpy as np
 
 from integrity.errors import FieldError
+from integrity.io.schema import excerpt
 from integrity.model.hamiltonian import FORMAT_NAME, Electrons, Hamiltonian, Orbitals, Reference, TwoElectron
 
 ORBITAL_KEYS = ("count", "basis", "spin_layout", "point_group", "irreps", "canonical")
@@ -145,7 +146,7 @@ def _require(mapping, key, kind=None, prefix=None):
 
 def _electrons(mapping, prefix) -> Electrons:
     if not isinstance(mapping, dict):
-        raise FieldError(prefix, f"expected an object with alpha and beta, got {mapping!r}")
+        raise FieldError(prefix, f"expected an object with alpha and beta, got {excerpt(mapping)}")
     return Electrons(alpha=_require(mapping, "alpha", None, prefix), beta=_require(mapping, "beta", None, prefix))
 
 

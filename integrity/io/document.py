@@ -31,6 +31,8 @@ class Document:
     tree: dict[str, Any]
     locate: Callable[[tuple], str]
     decoder: Callable[[], dict[str, Any]] = field(repr=False)
+    #: problems the reader found outside the tree, as (path, message): a soft link to nothing
+    notes: list[tuple[tuple, str]] = field(default_factory=list)
     closer: Callable[[], None] = field(default=lambda: None, repr=False)
     _content: dict[str, Any] | None = field(default=None, init=False, repr=False)
 

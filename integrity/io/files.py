@@ -21,8 +21,9 @@ from pathlib import Path
 from integrity.errors import ContainerError, FieldError, IntegrityError
 from integrity.io import hdf5, jsonfile
 from integrity.io.content import content_from_hamiltonian, hamiltonian_from_content
+from integrity.io.discovery import dangling_link_reason, is_dangling_link
 from integrity.io.document import DEFAULT_MEMORY, Document
-from integrity.io.schema import schema_problems
+from integrity.io.schema import file_problems
 from integrity.model.fingerprint import fingerprint
 from integrity.model.hamiltonian import FORMAT_NAME, FORMAT_VERSION, Hamiltonian
 
@@ -44,6 +45,8 @@ def open_document(path, *, memory: int = DEFAULT_MEMORY, lazy: bool | str = Fals
     container, another ``format``, an unknown ``format_version``).
     """
     container = container_of(path)
+    if is_dangling_link(path):
+        raise ContainerError(None, dangling_link_reason(path), str(path))
     document = hdf5.read(path, memory=memory, lazy=lazy) if container == "hdf5" else jsonfile.read(path, memory=memory)
     try:
         _require_identity(document)
@@ -84,7 +87,7 @@ def hamiltonian_of(document: Document) -> Hamiltonian:
     The first schema problem (or structural fault) is raised as FieldError
     naming the file and the location inside it.
     """
-    problems = schema_problems(document.tree, document.schema_entry)
+    problems = file_problems(document.tree, document.schema_entry, document.notes)
     if problems:
         first = problems[0]
         more = f" (and {len(problems) - 1} more schema problems)" if len(problems) > 1 else ""

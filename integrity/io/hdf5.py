@@ -19,18 +19,21 @@ any compound of two float64 fields, and booleans stored as integers 0/1
 from __future__ import annotations
 
 import json
+import math
 
 import h5py
 import numpy as np
 
-from integrity.errors import ContainerError, FieldError
+from integrity.errors import ContainerError, FieldError, IntegrityError
 from integrity.io.atomic import atomic_output
 from integrity.io.content import history_entry_from_text, plain
-from integrity.io.document import Document, require_declared_size
+from integrity.io.document import Document, format_bytes, require_declared_size
 
 ARRAY_DATASETS = ("one_electron", "two_electron")
 BOOLEAN_ATTRIBUTES = ("canonical", "antisymmetrized")
 _SMALL_DATASET_LIMIT = 10**6
+#: what h5py raises on damaged metadata, besides OSError
+_H5PY_ERRORS = (KeyError, RuntimeError, OSError, ValueError, TypeError, UnicodeDecodeError)
 
 
 class StoredArray:
@@ -62,7 +65,7 @@ class StoredArray:
     def __getitem__(self, key):
         try:
             raw = self.dataset[key]
-        except OSError as err:
+        except (OSError, RuntimeError) as err:
             raise ContainerError(
                 self.name, f"cannot read the data ({err}); the file may be truncated or damaged"
             ) from None
@@ -83,16 +86,6 @@ def _plain(value):
     return None if isinstance(value, h5py.Empty) else plain(value)
 
 
-def _attributes(obj) -> dict:
-    out = {}
-    for key, value in obj.attrs.items():
-        value = _plain(value)
-        if key in BOOLEAN_ATTRIBUTES and type(value) is int and value in (0, 1):
-            value = bool(value)
-        out[key] = value
-    return out
-
-
 def _small_dataset(dataset: h5py.Dataset, location: str):
     if dataset.size > _SMALL_DATASET_LIMIT:
         raise FieldError(location, f"holds {dataset.size} elements; a metadata list this long is not plausible")
@@ -105,22 +98,139 @@ def _small_dataset(dataset: h5py.Dataset, location: str):
     return _plain(np.atleast_1d(values))
 
 
-def _read_group(group: h5py.Group, prefix: str, arrays: dict) -> dict:
-    node = _attributes(group)
-    for key, member in group.items():
-        location = f"{prefix}/{key}"
-        if isinstance(member, h5py.Group):
-            node[key] = _read_group(member, location, arrays)
-        elif isinstance(member, h5py.Dataset):
-            if prefix == "" and key in ARRAY_DATASETS:
-                stored = StoredArray(member, key)
-                arrays[key] = stored
-                node[key] = {"shape": list(stored.shape), "dtype": stored.dtype.name} | _attributes(member)
-            else:
-                node[key] = _small_dataset(member, location)
+#: groups nest at most this deep (the format needs 3: /references/<label>/occupation)
+MAX_DEPTH = 16
+
+
+def _attributes(obj, location: str) -> dict:
+    out = {}
+    for key, value in obj.attrs.items():
+        try:
+            value = _plain(value)
+        except UnicodeDecodeError as err:
+            where = f"{location.rstrip('/')}@{key}" if location != "/" else f"/@{key}"
+            raise ContainerError(
+                where, f"a byte string that is not UTF-8 (byte {err.object[err.start]:#04x} at {err.start})"
+            ) from None
+        if key in BOOLEAN_ATTRIBUTES and type(value) is int and value in (0, 1):
+            value = bool(value)
+        out[key] = value
+    return out
+
+
+def _read_tree(handle: h5py.File, arrays: dict, notes: list, budget: int | None = None) -> dict:
+    """The file's groups, attributes and dataset descriptors as nested dicts, walked without recursion.
+
+    Refused (ContainerError naming the location): groups nested deeper than
+    :data:`MAX_DEPTH`, a link back to a group above it (a loop) or to an object
+    already read, external links, datasets stored outside the file (external
+    raw storage, virtual datasets), datasets declaring more than they store.
+    A soft link to nothing is left out of the tree and noted in ``notes``
+    (path, message) for the schema check. With a ``budget`` (bytes) the arrays
+    are to be read into memory, so a declared size beyond it is refused first.
+    """
+    try:
+        tree = _attributes(handle, "/")
+    except IntegrityError:
+        raise
+    except _H5PY_ERRORS as err:
+        raise _damaged("/", err) from None
+    seen = {handle.id}
+    pending = [(handle, (), tree, (handle.id,))]
+    while pending:
+        group, parts, node, above = pending.pop()
+        try:
+            keys = list(group)
+        except _H5PY_ERRORS as err:
+            raise _damaged(location(parts) if parts else "/", err) from None
+        for key in keys:
+            path = (*parts, key)
+            try:
+                _visit(group, key, path, node, above, seen, pending, arrays, notes, budget)
+            except IntegrityError:
+                raise
+            except _H5PY_ERRORS as err:
+                raise _damaged("/" + "/".join(path), err) from None
+    return tree
+
+
+def _damaged(where: str, err: Exception) -> ContainerError:
+    return ContainerError(where, f"damaged HDF5 metadata ({type(err).__name__}: {_excerpt(str(err))})")
+
+
+def _excerpt(text: str, limit: int = 80) -> str:
+    return text if len(text) <= limit else text[: limit - 3] + "..."
+
+
+def _visit(group, key, path, node, above, seen, pending, arrays, notes, budget) -> None:
+    where = "/" + "/".join(path)
+    link = group.get(key, getlink=True)
+    if isinstance(link, h5py.ExternalLink):
+        raise ContainerError(
+            where,
+            f"an external link to {link.filename}:{link.path}; the data must be stored in the file itself",
+        )
+    if isinstance(link, h5py.SoftLink) and link.path not in group:
+        notes.append((path, f"a soft link to {_excerpt(link.path)}, which does not exist"))
+        return
+    member = group.get(key)
+    if member is None:
+        notes.append((path, "an object h5py cannot read (not a group or a dataset)"))
+        return
+    if member.id in above:
+        target = "/" + "/".join(path[: above.index(member.id)])
+        raise ContainerError(where, f"a link back to {target}, a group that holds it (a loop)")
+    if member.id in seen:
+        raise ContainerError(where, f"a second name for {member.name}, which was already read")
+    seen.add(member.id)
+    if isinstance(member, h5py.Group):
+        if len(path) >= MAX_DEPTH:
+            raise ContainerError(_excerpt(where), f"groups nested deeper than {MAX_DEPTH} levels")
+        node[key] = _attributes(member, where)
+        pending.append((member, path, node[key], (*above, member.id)))
+    elif isinstance(member, h5py.Dataset):
+        is_array = path in (("one_electron",), ("two_electron",))
+        if is_array and budget is not None:
+            require_declared_size(where, member.shape, member.dtype.itemsize, budget)
+        _require_stored_here(member, where)
+        if is_array:
+            stored = StoredArray(member, key)
+            arrays[key] = stored
+            node[key] = {"shape": list(stored.shape), "dtype": stored.dtype.name} | _attributes(member, where)
         else:
-            node[key] = None  # a soft link to nothing, or an unknown object
-    return node
+            node[key] = _small_dataset(member, where)
+    else:
+        notes.append((path, f"a {type(member).__name__}, not a group or a dataset"))
+
+
+def _require_stored_here(dataset: h5py.Dataset, where: str) -> None:
+    """Refuse data kept outside the file, and declared data that is not stored (before reading any)."""
+    if dataset.is_virtual:
+        raise ContainerError(where, "a virtual dataset (its data is elsewhere); store the values in the file")
+    if dataset.external:
+        raise ContainerError(
+            where,
+            f"its data is stored outside the file, in {dataset.external[0][0]!r}; store the values in the file itself",
+        )
+    if h5py.check_string_dtype(dataset.dtype) is not None or dataset.dtype.kind == "O" or dataset.size == 0:
+        return
+    declared = int(dataset.size) * dataset.dtype.itemsize
+    if dataset.chunks is not None:
+        expected = math.prod(-(-extent // chunk) for extent, chunk in zip(dataset.shape, dataset.chunks, strict=True))
+        allocated = dataset.id.get_num_chunks()
+        if allocated < expected:
+            raise ContainerError(
+                where,
+                f"declares {format_bytes(declared)} in {expected} chunks but stores {allocated} of "
+                f"them ({format_bytes(dataset.id.get_storage_size())}); the values were never written",
+            )
+    elif dataset.id.get_create_plist().get_layout() == h5py.h5d.CONTIGUOUS:
+        stored = dataset.id.get_storage_size()
+        if stored < declared:
+            raise ContainerError(
+                where,
+                f"declares {format_bytes(declared)} but stores {format_bytes(stored)}; the values were never written",
+            )
 
 
 _DATASETS = {("one_electron",), ("two_electron",), ("orbitals", "irreps"), ("provenance", "history")}
@@ -168,16 +278,24 @@ def read(path: str, *, memory: int, lazy: bool | str = False) -> Document:
     arrays larger than a quarter of ``memory``.
     """
     handle = _open(path)
+    arrays: dict = {}
+    notes: list = []
     try:
-        arrays: dict = {}
-        tree = _read_group(handle, "", arrays)
-    except Exception:
+        tree = _read_tree(handle, arrays, notes, budget=None if lazy else memory)
+    except IntegrityError as err:
+        handle.close()
+        raise err.in_file(path) from None
+    except _H5PY_ERRORS as err:
+        handle.close()
+        raise ContainerError(None, f"damaged HDF5 metadata ({type(err).__name__}: {err})", str(path)) from None
+    except BaseException:
         handle.close()
         raise
     return Document(
         path=str(path),
         container="hdf5",
         tree=tree,
+        notes=notes,
         locate=location,
         decoder=lambda: _content(tree, arrays, memory, lazy),
         closer=handle.close,

@@ -27,10 +27,42 @@ from integrity.errors import BudgetError, ContainerError, FieldError
 from integrity.io.atomic import atomic_output
 from integrity.io.content import history_entry_from_text
 from integrity.io.document import Document, format_bytes
+from integrity.io.schema import excerpt
 
 #: parsing JSON numbers costs about this many bytes of memory per byte of text
 PARSE_BYTES_PER_TEXT_BYTE = 3
+#: objects and arrays nest at most this deep (the format needs 5: references[i].occupation.alpha.data)
+MAX_DEPTH = 64
 _CHUNK = 1 << 16
+_TOKENS = re.compile(r'"[^"\\]*+(?:\\.[^"\\]*+)*+(?:"|\Z)|[\[\]{}]')
+
+
+def nesting_problem(text: str) -> str | None:
+    """Where the text nests objects and arrays deeper than :data:`MAX_DEPTH`, or None.
+
+    Counts brackets outside strings without parsing (the parser recurses once per
+    level, so a deep enough text would exhaust Python's stack).
+
+    >>> nesting_problem('{"a": [[1], {"b": "[[["}]}') is None
+    True
+    >>> nesting_problem("[" * 100 + "]" * 100)
+    'nested deeper than 64 levels at line 1, column 65'
+    """
+    if text.count("[") + text.count("{") <= MAX_DEPTH:
+        return None  # too few openings to nest that deep (most files: a scan of the text costs more)
+    depth = 0
+    for token in _TOKENS.finditer(text):
+        bracket = token.group()
+        if bracket in "[{":
+            depth += 1
+            if depth > MAX_DEPTH:
+                start = token.start()
+                line = text.count("\n", 0, start) + 1
+                column = start - (text.rfind("\n", 0, start) + 1) + 1
+                return f"nested deeper than {MAX_DEPTH} levels at line {line}, column {column}"
+        elif bracket in "]}":
+            depth -= 1
+    return None
 
 
 class _Offending(ValueError):
@@ -51,9 +83,13 @@ def _no_duplicates(pairs):
     out = {}
     for key, value in pairs:
         if key in out:
-            raise _Offending(f"key {key!r} appears twice in one object", re.escape(json.dumps(key)) + r"\s*:")
+            raise _Offending(f"key {excerpt(key)} appears twice in one object", re.escape(json.dumps(key)) + r"\s*:")
         out[key] = value
     return out
+
+
+def _excerpt_text(text: str) -> str:
+    return text if len(text) <= 160 else text[:157] + "..."
 
 
 def _position_of(text: str, err: ValueError) -> str:
@@ -93,14 +129,21 @@ def read(path, *, memory: int) -> Document:
         raise ContainerError(
             None, f"not UTF-8 text (byte {err.start}); is this an HDF5 file named .json?", str(path)
         ) from None
+    too_deep = nesting_problem(text)
+    if too_deep is not None:
+        raise ContainerError(None, f"not readable as JSON: {too_deep}", str(path))
     try:
         tree = json.loads(text, parse_constant=_reject_constant, object_pairs_hook=_no_duplicates)
     except json.JSONDecodeError as err:
         raise ContainerError(
             None, f"invalid JSON at line {err.lineno}, column {err.colno}: {err.msg}", str(path)
         ) from None
+    except RecursionError:
+        raise ContainerError(None, "not readable as JSON: nested too deep to parse", str(path)) from None
     except ValueError as err:
-        raise ContainerError(None, f"invalid JSON{_position_of(text, err)}: {err}", str(path)) from None
+        raise ContainerError(
+            None, f"invalid JSON{_position_of(text, err)}: {_excerpt_text(str(err))}", str(path)
+        ) from None
     if not isinstance(tree, dict):
         raise ContainerError(None, f"expected a JSON object at the top, got {type(tree).__name__}", str(path))
     document = Document(path=str(path), container="json", tree=tree, locate=_locate, decoder=lambda: decode(tree))
@@ -166,7 +209,7 @@ def decode_array(node: dict, field: str) -> np.ndarray:
     """
     shape = node.get("shape")
     if not isinstance(shape, list) or not all(isinstance(s, int) and s >= 0 for s in shape):
-        raise FieldError(f"{field}.shape", f"expected a list of non-negative integers, got {shape!r}")
+        raise FieldError(f"{field}.shape", f"expected a list of non-negative integers, got {excerpt(shape)}")
     expected = math.prod(shape)
     if "data" in node:
         values = _numbers(node["data"], f"{field}.data", expected)
@@ -186,8 +229,12 @@ def _numbers(values, field: str, expected: int) -> np.ndarray:
         raise FieldError(field, f"shape needs {expected} values, the list holds {len(values)}")
     if not set(map(type, values)) <= {float, int}:
         index = next(i for i, v in enumerate(values) if type(v) not in (float, int))
-        raise FieldError(f"{field}[{index}]", f"expected a number, got {values[index]!r}")
-    return np.array(values, dtype=np.float64)
+        raise FieldError(f"{field}[{index}]", f"expected a number, got {excerpt(values[index])}")
+    try:
+        return np.array(values, dtype=np.float64)
+    except OverflowError:
+        index = next(i for i, v in enumerate(values) if type(v) is int and abs(v) >= 2**63)
+        raise FieldError(f"{field}[{index}]", f"{excerpt(values[index])} is beyond the 64-bit integer range") from None
 
 
 def write(content: dict, path, *, overwrite: bool = False) -> None:

@@ -18,6 +18,7 @@ from __future__ import annotations
 
 import functools
 import json
+import math
 import reprlib
 from dataclasses import dataclass
 from importlib import resources
@@ -35,9 +36,32 @@ SCHEMA_FILES = {
 }
 _BULK_THRESHOLD = 256
 _short = reprlib.Repr()
-_short.maxstring = 60
-_short.maxlist = 6
-_short.maxdict = 4
+_short.maxstring = 40
+_short.maxlist = 4
+_short.maxdict = 3
+_short.maxlevel = 2
+_short.maxlong = 30
+#: a value quoted in a message is cut to this many characters
+EXCERPT = 80
+#: integers must fit a signed 64-bit integer (the HDF5 container's type)
+INT64 = (-(2**63), 2**63 - 1)
+#: keys of a JSON array object whose lists are array values (judged by arrays.finite, not here)
+_ARRAY_VALUE_KEYS = ("data", "real", "imag")
+
+
+def excerpt(value) -> str:
+    """A value as a message quotes it: a short repr, at most :data:`EXCERPT` characters.
+
+    >>> excerpt([[0.5] * 100] * 100)
+    '[[0.5, 0.5, 0.5, 0.5, ...], [0.5, 0.5, 0.5, 0.5, ...], [0.5, 0.5, 0.5, 0.5, ....'
+    >>> len(excerpt([[0.1234567890123] * 100] * 100)), excerpt(10**400)
+    (80, '1000000000000...00000000000000')
+    """
+    try:
+        text = _short.repr(value)
+    except ValueError:  # an integer beyond Python's limit of digits for str()
+        return f"an integer of {value.bit_length()} bits"
+    return text if len(text) <= EXCERPT else text[: EXCERPT - 3] + "..."
 
 
 @dataclass(frozen=True)
@@ -73,7 +97,7 @@ def _bulk_items(validator, items, instance, schema):
             return
         for index, item in enumerate(instance):
             if type(item) not in (float, int):
-                yield ValidationError(f"{_short.repr(item)} is not of type 'number'", path=[index])
+                yield ValidationError(f"{excerpt(item)} is not of type 'number'", path=[index])
                 return
     yield from _DRAFT.VALIDATORS["items"](validator, items, instance, schema)
 
@@ -96,8 +120,55 @@ def schema_problems(tree, entry: str | None = None, name: str = "hamiltonian") -
     found = []
     for error in _validator(name, entry).iter_errors(tree):
         found.extend(_leaves(error))
+    if name == "hamiltonian":
+        found.extend(value_problems(tree))
     unique = {(p.path, p.message): p for p in found}
     return sorted(unique.values(), key=lambda p: tuple(str(k) for k in p.path))
+
+
+def file_problems(tree, entry: str, notes=()) -> list[SchemaProblem]:
+    """Every schema problem of a file: the tree's, and the ``notes`` its reader made
+    about what it left out of the tree (``(path, message)``: a soft link to nothing)."""
+    found = schema_problems(tree, entry)
+    found += [SchemaProblem(tuple(path), "link", message) for path, message in notes]
+    return sorted(found, key=lambda p: tuple(str(k) for k in p.path))
+
+
+def value_problems(tree) -> list[SchemaProblem]:
+    """Values JSON Schema cannot judge: non-finite floats (``1e400`` parses to infinity) in
+    metadata, integers beyond 64 bits anywhere (they have no HDF5 type, and as floats
+    they overflow), and the NUL character in a key or a string (HDF5 cannot hold it).
+    Array values (``data``, ``real``, ``imag`` beside a ``shape``) may be non-finite
+    here: ``arrays.finite`` reports those. Walks without recursion.
+
+    >>> for problem in value_problems({"core_energy": float("inf"), "orbitals": {"count": 10**30}}):
+    ...     print(problem.path, problem.message)
+    ('core_energy',) inf is not a finite number
+    ('orbitals', 'count') 1000000000000...00000000000000 is beyond the 64-bit integer range
+    """
+    found = []
+    pending = [((), tree, False)]
+    while pending:
+        path, node, values = pending.pop()
+        if isinstance(node, dict):
+            found += [
+                SchemaProblem((*path, k), "nul", "the key contains a NUL character, which HDF5 names cannot hold")
+                for k in node
+                if isinstance(k, str) and "\x00" in k
+            ]
+            is_array = "shape" in node
+            pending += [((*path, k), v, is_array and k in _ARRAY_VALUE_KEYS) for k, v in node.items()]
+        elif isinstance(node, list):
+            if values and set(map(type, node)) <= {float}:
+                continue  # the common case of array data, in one pass
+            pending += [((*path, i), v, values) for i, v in enumerate(node)]
+        elif type(node) is float and not values and not math.isfinite(node):
+            found.append(SchemaProblem(path, "finite", f"{node} is not a finite number"))
+        elif isinstance(node, str) and "\x00" in node:
+            found.append(SchemaProblem(path, "nul", "contains a NUL character, which HDF5 strings cannot hold"))
+        elif type(node) is int and not INT64[0] <= node <= INT64[1]:
+            found.append(SchemaProblem(path, "int64", f"{excerpt(node)} is beyond the 64-bit integer range"))
+    return sorted(found, key=lambda p: tuple(str(k) for k in p.path))
 
 
 def _leaves(error: ValidationError) -> list[SchemaProblem]:
@@ -129,14 +200,14 @@ def _any_of_message(error: ValidationError) -> str:
         context = [e for e in context if e.validator != "type"] or context
     best = jsonschema.exceptions.best_match(context)
     if best is None:
-        return f"{_short.repr(instance)} matches no allowed form"
+        return f"{excerpt(instance)} matches no allowed form"
     where = "".join(f"[{k}]" for k in best.relative_path)
     return (f"item {where}: " if where else "") + _message(best)
 
 
 def _message(error: ValidationError) -> str:
     value = error.validator_value
-    shown = _short.repr(error.instance)
+    shown = excerpt(error.instance)
     if error.validator == "type":
         return f"expected {value}, got {shown}"
     if error.validator == "enum":
@@ -151,7 +222,9 @@ def _message(error: ValidationError) -> str:
     if error.validator == "not" and isinstance(value, dict) and "const" in value:
         return f"{shown} is not allowed here"
     message = error.message
-    return message if len(message) <= 200 else message[:197] + "..."
+    if len(message) <= 2 * EXCERPT:
+        return message
+    return f"{shown} breaks the rule {error.validator!r}"
 
 
 def render_path(path: tuple) -> str:
