@@ -19,6 +19,7 @@ from __future__ import annotations
 
 import argparse
 import os
+import signal
 import sys
 import time
 from pathlib import Path
@@ -28,6 +29,10 @@ for _name in ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):
 
 REPOSITORY = Path(__file__).resolve().parent.parent
 GOOD = REPOSITORY / "fixtures" / "good"
+
+
+def _interrupt(signum, frame):
+    raise KeyboardInterrupt
 
 
 def main() -> int:
@@ -59,13 +64,20 @@ def main() -> int:
     cases = plan(fixtures, count, args.seed)
     summary = Summary()
     started = time.monotonic()
-    for outcome in run_cases(cases, workers=args.workers, time_limit=args.time_limit):
-        summary.add(outcome)
-        if summary.cases % 250 == 0 or outcome.verdict != "ok":
-            note = "" if outcome.verdict == "ok" else f"  {outcome.verdict}: {outcome.case.name}: {outcome.reason}"
-            print(f"[{summary.cases:>6}/{count}] {time.monotonic() - started:7.0f} s{note}", file=sys.stderr)
+    signal.signal(signal.SIGTERM, _interrupt)
+    interrupted = False
+    try:
+        for outcome in run_cases(cases, workers=args.workers, time_limit=args.time_limit):
+            summary.add(outcome)
+            if summary.cases % 250 == 0 or outcome.verdict != "ok":
+                note = "" if outcome.verdict == "ok" else f"  {outcome.verdict}: {outcome.case.name}: {outcome.reason}"
+                print(f"[{summary.cases:>6}/{count}] {time.monotonic() - started:7.0f} s{note}", file=sys.stderr)
+    except KeyboardInterrupt:
+        interrupted = True  # the table of the cases judged so far
     elapsed = time.monotonic() - started
     print(f"integrity check over damaged fixtures: seed {args.seed}, {args.workers} children at a time")
+    if interrupted:
+        print(f"interrupted after {summary.cases:,} of {count:,} cases")
     print(summary.table())
     print(f"wall time {elapsed:.0f} s ({elapsed / max(1, summary.cases) * 1000:.0f} ms per case)")
     problems = sum(summary.counts[name] for name in summary.counts if name != "ok")

@@ -163,10 +163,12 @@ def _last_line(text: str) -> str:
 # The child
 
 
-def _child(case: Case, folder: Path, memory_limit: int) -> None:
+def _child(case: Case, folder: Path, memory_limit: int, time_limit: float) -> None:
     """Run in the forked child: damage, then check; never returns (``os._exit``)."""
     status = _ESCAPED_STATUS
     try:
+        signal.signal(signal.SIGALRM, signal.SIG_DFL)
+        signal.alarm(int(time_limit) + 30)  # ends the child even if the parent is gone
         out = os.open(folder / "stdout", os.O_WRONLY | os.O_CREAT | os.O_TRUNC)
         err = os.open(folder / "stderr", os.O_WRONLY | os.O_CREAT | os.O_TRUNC)
         os.dup2(out, 1)
@@ -175,6 +177,8 @@ def _child(case: Case, folder: Path, memory_limit: int) -> None:
         sys.stderr = io.TextIOWrapper(io.FileIO(2, "w", closefd=False), encoding="utf-8", errors="replace")
         signal.signal(signal.SIGINT, signal.SIG_DFL)
         os.chdir(folder)
+        os.environ["INTEGRITY_THREADS"] = "1"  # two children share the cores; no sigma threads (nor a
+        # thread pool inherited from the parent, whose threads do not exist here)
         resource.setrlimit(resource.RLIMIT_AS, (memory_limit, memory_limit))
         target = folder / Path(case.fixture).name
         try:
@@ -232,7 +236,7 @@ def prepare() -> None:
     """Import what every child needs, once, before the first fork."""
     import threadpoolctl  # noqa: F401
 
-    import integrity.batch.preload  # noqa: F401
+    import integrity.batch.preload
     import integrity.cli.app  # noqa: F401
 
 
@@ -265,7 +269,7 @@ def run_cases(
                 sys.stderr.flush()
                 pid = os.fork()
                 if pid == 0:
-                    _child(case, work, memory_limit)
+                    _child(case, work, memory_limit, time_limit)
                 running[pid] = _Running(case, pid, work, time.monotonic())
             finished = _reap(running, time_limit)
             for child, wait_status in finished:

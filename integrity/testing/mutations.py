@@ -265,16 +265,16 @@ def differences(a, b, path: tuple = ()) -> list[tuple]:
         out = []
         for key in list(a) + [k for k in b if k not in a]:
             if key not in a or key not in b:
-                out.append(path + (key,))
+                out.append((*path, key))
             else:
-                out.extend(differences(a[key], b[key], path + (key,)))
+                out.extend(differences(a[key], b[key], (*path, key)))
         return out
     if isinstance(a, list) and isinstance(b, list) and len(a) == len(b):
         if path and path[-1] in ("data", "real", "imag"):
             return [] if _same_json(a, b) else [path]
         out = []
         for i, (x, y) in enumerate(zip(a, b, strict=True)):
-            out.extend(differences(x, y, path + (i,)))
+            out.extend(differences(x, y, (*path, i)))
         return out
     return [] if _same_json(a, b) else [path]
 
@@ -323,13 +323,13 @@ def json_fields(doc, path: tuple = ()) -> list[tuple]:
     out = []
     if isinstance(doc, dict):
         for key, value in doc.items():
-            out.append(path + (key,))
+            out.append((*path, key))
             if key not in ("data", "real", "imag"):
-                out.extend(json_fields(value, path + (key,)))
+                out.extend(json_fields(value, (*path, key)))
     elif isinstance(doc, list):
         for i, value in enumerate(doc):
-            out.append(path + (i,))
-            out.extend(json_fields(value, path + (i,)))
+            out.append((*path, i))
+            out.extend(json_fields(value, (*path, i)))
     return out
 
 
@@ -551,7 +551,7 @@ def flip_value_bytes(source: Path, target: Path, rng) -> Damage:
         i = _pick(rng, digits)
         data[i] = ord(_pick(rng, [d for d in "0123456789" if ord(d) != data[i]]))
     else:
-        name, offset, size = _pick(rng, [e for e in raw_extents(source) if e[2] > 0])
+        _name, offset, size = _pick(rng, [e for e in raw_extents(source) if e[2] > 0])
         i = offset + int(rng.integers(size))
         data[i] ^= 1 << int(rng.integers(8))
     target.write_bytes(bytes(data))
@@ -854,7 +854,7 @@ def nonfinite(source: Path, target: Path, rng) -> Damage:
 def duplicate_key(source: Path, target: Path, rng) -> Damage:
     """A key written twice in one object, with the same or another value."""
     doc = _read_json(source)
-    objects = [p for p in [()] + json_fields(doc) if isinstance(_get(doc, p), dict) and _get(doc, p)]
+    objects = [p for p in [(), *json_fields(doc)] if isinstance(_get(doc, p), dict) and _get(doc, p)]
     path = _pick(rng, objects)
     obj = _get(doc, path)
     key = _pick(rng, obj)
@@ -866,7 +866,7 @@ def duplicate_key(source: Path, target: Path, rng) -> Damage:
     text = target.read_text(encoding="utf-8")
     text = text.replace(json.dumps("@@dup@@") + ": " + json.dumps("@@dup-value@@"), json.dumps(key) + ": " + raw_value)
     target.write_text(text, encoding="utf-8")
-    return Damage(f"{_dotted(path + (key,))} written twice ({'same' if same else 'another'} value)", FAIL)
+    return Damage(f"{_dotted((*path, key))} written twice ({'same' if same else 'another'} value)", FAIL)
 
 
 @mutation(JSON, HDF5)
@@ -966,11 +966,12 @@ def bad_text(source: Path, target: Path, rng) -> Damage:
             "key": (f.require_group("provenance"), "basis"),
             "label": (f, "energy_unit"),
         }[where]
+        location = f"{obj.name}@{attr}"
         if rng.random() < 0.5 or how == "nul":  # a variable-length string cannot hold a NUL
             obj.attrs.create(attr, np.bytes_(payload), dtype=h5py.string_dtype("utf-8", len(payload)))
         else:
             obj.attrs.create(attr, payload, dtype=h5py.string_dtype("ascii"))
-    return Damage(f"{how} in {where} ({obj.name}@{attr})", FAIL)
+    return Damage(f"{how} in {where} ({location})", FAIL)
 
 
 @mutation(HDF5)
