@@ -1051,22 +1051,32 @@ def external_storage(source: Path, target: Path, rng) -> Damage:
 
 @mutation(HDF5)
 def huge_chunked(source: Path, target: Path, rng) -> Damage:
-    """An array declared huge, chunked, with no chunk written (it reads as fill values), count to match or not."""
+    """Arrays declared huge, chunked, with no chunk written (they read as fill values): one array
+    alone (its shape disagrees with the count), or every array and the count made consistent, so
+    only a check of the declared size before reading stands between the reader and terabytes."""
+    big = int(_pick(rng, [2_000, 20_000]))
+    consistent = rng.random() < 0.5
     with _hdf5_edit(source, target) as f:
-        name = _pick(rng, ["one_electron", "two_electron"])
-        old = f[name]
-        big = int(_pick(rng, [2_000, 20_000]))
-        shape = tuple(big if d > 3 else d for d in old.shape) if rng.random() < 0.7 else (big,) * old.ndim
-        match = rng.random() < 0.5
-        attrs = dict(old.attrs)
-        del f[name]
-        chunks = tuple(min(d, 64) for d in shape)
-        dataset = f.create_dataset(name, shape=shape, dtype="<f8", chunks=chunks, fillvalue=float(rng.integers(0, 2)))
-        for key, value in attrs.items():
-            dataset.attrs[key] = value
-        if match:
+        names = ["one_electron", "two_electron"] if consistent else [_pick(rng, ["one_electron", "two_electron"])]
+        for name in names:
+            old = f[name]
+            if consistent:
+                shape = tuple(big if d > 3 else d for d in old.shape)
+            else:
+                shape = tuple(big if d > 3 else d for d in old.shape) if rng.random() < 0.7 else (big,) * old.ndim
+            attrs = dict(old.attrs)
+            del f[name]
+            chunks = tuple(min(d, 64) for d in shape)
+            fill = float(rng.integers(0, 2))
+            dataset = f.create_dataset(name, shape=shape, dtype="<f8", chunks=chunks, fillvalue=fill)
+            for key, value in attrs.items():
+                dataset.attrs[key] = value
+        if consistent:
             f["orbitals"].attrs["count"] = big
-    return Damage(f"/{name} declared {shape}, no data written{', count to match' if match else ''}", FAIL)
+            if "irreps" in f["orbitals"]:
+                _replace_dataset(f, "orbitals/irreps", np.zeros(big, dtype=np.int64))
+    what = "every array and the count" if consistent else names[0]
+    return Damage(f"{what} declared {big} orbitals, chunked, no data written", FAIL)
 
 
 def _arrays_json(doc):
