@@ -33,6 +33,7 @@ from __future__ import annotations
 import io
 import json
 import os
+import re
 import resource
 import shutil
 import signal
@@ -362,6 +363,17 @@ class Summary:
         if outcome.verdict != "ok":
             self.problems.append(outcome)
 
+    def causes(self) -> list[tuple[tuple[str, str, str], tuple[int, str]]]:
+        """Problems grouped by verdict, mutation and symptom (the reason with its numbers and paths
+        blurred), most frequent first, each with its count and one case."""
+        groups: dict[tuple[str, str, str], list[str]] = {}
+        for outcome in self.problems:
+            symptom = re.sub(r"/\S+/", ".../", outcome.reason)
+            symptom = re.sub(r"\d+", "N", symptom.removeprefix("error: internal error "))[:90]
+            groups.setdefault((outcome.verdict, outcome.case.mutation, symptom), []).append(outcome.case.name)
+        ranked = sorted(groups.items(), key=lambda item: (PROBLEMS.index(item[0][0]), -len(item[1]), item[0]))
+        return [(key, (len(cases), cases[0])) for key, cases in ranked]
+
     def table(self) -> str:
         """The counts as a plain-text table, then one line per problem."""
         rows = [("cases", self.cases)] + [(LABELS[name], self.counts[name]) for name in PROBLEMS]
@@ -369,6 +381,11 @@ class Summary:
         lines = [f"{name:<{width}}  {count:>7,}" for name, count in rows]
         kinds = ", ".join(f"{self.expected[k]:,} {k}" for k in (FAIL, EITHER, PASS))
         lines.append(f"(mutations that must fail / may pass / must pass: {kinds})")
+        causes = self.causes()
+        if causes:
+            lines.append("distinct causes (count, verdict, mutation, symptom, one case):")
+            lines.extend(f"{n:>7,}  {v:<11} {m:<17} {symptom}  e.g. {case}" for (v, m, symptom), (n, case) in causes)
+            lines.append("every case that was not ok:")
         for outcome in sorted(self.problems, key=lambda o: (o.verdict, o.case.mutation, o.case.fixture)):
             lines.append(f"{outcome.verdict:<12} {outcome.case.name}  {outcome.damage or ''}: {outcome.reason}")
         return "\n".join(lines)
