@@ -22,7 +22,7 @@ Which fields are *free* (provenance, title), *soft* (references,
 (everything else) decides most expectations: :func:`stakes`.
 
 >>> sorted(MUTATIONS)[:3]
-['change_core_energy', 'change_electrons', 'change_reference']
+['bad_text', 'change_core_energy', 'change_electrons']
 >>> stakes(("provenance", "basis")), stakes(("references", 0, "energy")), stakes(("electrons", "alpha"))
 ('free', 'soft', 'hard')
 """
