@@ -1024,9 +1024,31 @@ def external_link(source: Path, target: Path, rng) -> Damage:
     with _hdf5_edit(source, target) as f:
         if name not in f:
             name = "/one_electron"
+        with h5py.File(other, "r") as linked:
+            same = same or _same_hdf5_object(f, linked, name)
         del f[name]
         f[name] = h5py.ExternalLink(other.name, name)
-    return Damage(f"{name} -> external link to {'a copy' if same else 'another file'}", EITHER if same else FAIL)
+    what = "a copy" if same else "another file"
+    return Damage(f"{name} -> external link to {what}", EITHER if same else FAIL)
+
+
+def _same_hdf5_object(a, b, name: str) -> bool:
+    """Whether ``name`` holds the same attributes, values and members in both open files."""
+    h5py = _h5py()
+    if name not in a or name not in b:
+        return False
+    x, y = a[name], b[name]
+    if type(x) is not type(y) or not _same_json(_attrs_of(x), _attrs_of(y)):
+        return False
+    if isinstance(x, h5py.Dataset):
+        return x.dtype == y.dtype and x.shape == y.shape and x[()].tobytes() == y[()].tobytes()
+    if sorted(x) != sorted(y):
+        return False
+    return all(_same_hdf5_object(a, b, f"{name}/{member}") for member in x)
+
+
+def _attrs_of(obj) -> dict:
+    return {key: repr(_plain(value)) for key, value in obj.attrs.items()}
 
 
 @mutation(HDF5)
