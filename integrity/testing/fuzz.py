@@ -368,7 +368,7 @@ class Summary:
         blurred), most frequent first, each with its count and one case."""
         groups: dict[tuple[str, str, str], list[str]] = {}
         for outcome in self.problems:
-            symptom = re.sub(r"/\S+/", ".../", outcome.reason)
+            symptom = re.sub(r"/\S+/", ".../", outcome.reason.split("; this is a bug")[0])
             symptom = re.sub(r"\d+", "N", symptom.removeprefix("error: internal error "))[:90]
             groups.setdefault((outcome.verdict, outcome.case.mutation, symptom), []).append(outcome.case.name)
         ranked = sorted(groups.items(), key=lambda item: (PROBLEMS.index(item[0][0]), -len(item[1]), item[0]))
