@@ -188,17 +188,7 @@ def test_a_seeded_run_gives_no_case_of(verdict, seeded_run):
     assert not found, _listed(found)
 
 
-# The three tests below fail on this branch because of reader bugs this fuzzer found (reported
-# to the reading side); each marker goes when its test passes (the markers are strict).
-
-
 @pytest.mark.slow
-@pytest.mark.xfail(
-    strict=True,
-    reason="known reader bugs: HDF5 groups read by unbounded recursion (link cycles, soft links to the "
-    "root, 1,200 nested groups), JSON nested 100,000 deep, h5py errors on damaged metadata and "
-    "non-UTF-8 attributes escape as internal errors",
-)
 def test_a_seeded_run_gives_no_traceback_and_no_hang(seeded_run):
     # One test for both: a reader that follows a soft link to the root ends in a RecursionError
     # or in the time limit, depending on the machine's speed; either is a failure.
@@ -207,18 +197,12 @@ def test_a_seeded_run_gives_no_traceback_and_no_hang(seeded_run):
 
 
 @pytest.mark.slow
-@pytest.mark.xfail(
-    strict=True,
-    reason="known bug: arrays declared huge (chunked, no data written) are read whole or in slabs of "
-    "n^3 values by the fingerprint, beyond --memory",
-)
 def test_a_seeded_run_gives_no_memory_blow_up(seeded_run):
     found = [o for o in seeded_run.problems if o.verdict == "memory"]
     assert not found, _listed(found)
 
 
 @pytest.mark.slow
-@pytest.mark.xfail(strict=True, reason="known reader bug: a NUL character in a JSON provenance key is accepted")
 def test_a_seeded_run_gives_no_silent_pass(seeded_run):
     found = [o for o in seeded_run.problems if o.verdict == "silent_pass"]
     assert not found, _listed(found)
