@@ -139,7 +139,8 @@ def value_problems(tree) -> list[SchemaProblem]:
     metadata, integers beyond 64 bits anywhere (they have no HDF5 type, and as floats
     they overflow), and the NUL character in a key or a string (HDF5 cannot hold it).
     Array values (``data``, ``real``, ``imag`` beside a ``shape``) may be non-finite
-    here: ``arrays.finite`` reports those. Walks without recursion.
+    here: ``arrays.finite`` reports those; ``provenance.history`` steps are free-form JSON
+    text in either container and are not judged. Walks without recursion.
 
     >>> for problem in value_problems({"core_energy": float("inf"), "orbitals": {"count": 10**30}}):
     ...     print(problem.path, problem.message)
@@ -150,6 +151,8 @@ def value_problems(tree) -> list[SchemaProblem]:
     pending = [((), tree, False)]
     while pending:
         path, node, values = pending.pop()
+        if path == ("provenance", "history"):
+            continue  # free-form steps, stored as JSON text in either container
         if isinstance(node, dict):
             found += [
                 SchemaProblem((*path, k), "nul", "the key contains a NUL character, which HDF5 names cannot hold")
