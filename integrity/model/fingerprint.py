@@ -13,8 +13,9 @@
 
 References, provenance, title, notation and storage are not in it, so one
 Hamiltonian has one fingerprint in any container, notation or storage.
-The two-electron array is hashed slab by slab, so a file larger than memory
-can be fingerprinted from an open HDF5 dataset.
+The two-electron array is hashed in pieces of at most the slab budget
+(:func:`~integrity.model.slabs.chemist_pieces`), so a file larger than
+memory can be fingerprinted from an open HDF5 dataset.
 """
 
 from __future__ import annotations
@@ -25,7 +26,7 @@ import json
 import numpy as np
 
 from integrity.model.hamiltonian import Hamiltonian
-from integrity.model.slabs import chemist_slabs, spin_blocks
+from integrity.model.slabs import chemist_pieces, spin_blocks
 
 
 def header_bytes(ham: Hamiltonian) -> bytes:
@@ -60,8 +61,6 @@ def fingerprint(ham: Hamiltonian) -> str:
     digest.update(_little_endian(ham.one_electron).data)
     two = ham.two_electron
     for block in spin_blocks(two, ham.basis):
-        for _, slab in chemist_slabs(
-            block, two.notation, two.storage, ham.n, antisymmetrized=bool(two.antisymmetrized)
-        ):
-            digest.update(_little_endian(slab).data)
+        for piece in chemist_pieces(block, two.notation, two.storage, ham.n, antisymmetrized=bool(two.antisymmetrized)):
+            digest.update(_little_endian(piece).data)
     return "sha256:" + digest.hexdigest()

@@ -97,6 +97,40 @@ def chemist_slabs(
         yield p0, pairs[rows_pq][:, :, table]
 
 
+def chemist_pieces(
+    block,
+    notation: str,
+    storage: str,
+    n: int,
+    slab_bytes: int | None = None,
+    antisymmetrized: bool = False,
+) -> Iterator[np.ndarray]:
+    """Yield one spin block as dense chemist in C order, in pieces of at most ``slab_bytes``.
+
+    Concatenated, the pieces are ``chem.ravel()``. For dense storage a piece is
+    ``chem[p0:p1]`` or, when one first-index row exceeds the budget,
+    ``chem[p, q0:q1]`` (for physicist arrays read as ``phys[p, :, q0:q1, :]``
+    with its first two axes exchanged), so no read exceeds the budget while n^2
+    values fit in it. Packed storage goes through :func:`chemist_slabs` (it is
+    read whole: a quarter or an eighth of dense).
+    """
+    slab_bytes = _slab_bytes.get() if slab_bytes is None else slab_bytes
+    itemsize = np.dtype(block.dtype).itemsize
+    if storage != "dense" or n**3 * itemsize <= slab_bytes:
+        for _, slab in chemist_slabs(block, notation, storage, n, slab_bytes, antisymmetrized):
+            yield slab
+        return
+    width = max(1, min(n, slab_bytes // max(1, n * n * itemsize)))
+    physicist = notation == "physicist" and not antisymmetrized
+    for p in range(n):
+        for q0 in range(0, n, width):
+            q1 = min(n, q0 + width)
+            if physicist:
+                yield np.asarray(block[p, :, q0:q1, :]).transpose(1, 0, 2)
+            else:
+                yield np.asarray(block[p, q0:q1])
+
+
 def dense_chemist(two_electron, basis: str, n: int) -> np.ndarray:
     """The whole two-electron array as dense chemist (n,n,n,n), or (3,n,n,n,n) unrestricted.
 

@@ -16,8 +16,13 @@ Each case gets one verdict (:data:`VERDICTS`):
     the outcome is one the mutation allows;
 ``traceback``
     exit status outside {0, 1, 2}, or "Traceback" or "internal error" in the output;
+``contained``
+    no exit within the time limit in the child (the HDF5 library hangs on some
+    damaged metadata, where no Python code runs), and the real command, which
+    reads every file in a worker process, reported the file unreadable ("hung")
+    within ``--timeout`` :data:`CONTAIN_TIMEOUT`: the batch goes on, as it must;
 ``hang``
-    no exit within the time limit (the child is killed);
+    no exit within the time limit, and the real command did not contain it;
 ``memory``
     a ``MemoryError``, or the child killed by a signal (an abort, a crash, the kernel);
 ``silent_pass``
@@ -50,11 +55,12 @@ import numpy as np
 
 from integrity.testing.mutations import EITHER, FAIL, MUTATIONS, PASS, case_name, mutations_for
 
-VERDICTS = ("ok", "traceback", "hang", "memory", "silent_pass", "false_alarm", "harness")
+VERDICTS = ("ok", "contained", "traceback", "hang", "memory", "silent_pass", "false_alarm", "harness")
 #: the bad verdicts, in the order a table prints them
-PROBLEMS = VERDICTS[1:]
+PROBLEMS = VERDICTS[2:]
 #: the row of each bad verdict in a table
 LABELS = {
+    "contained": "library hangs contained by --timeout (not problems)",
     "traceback": "tracebacks",
     "hang": "hangs",
     "memory": "memory blow-ups",
@@ -64,6 +70,8 @@ LABELS = {
 }
 #: seconds a case may take before it counts as a hang
 TIME_LIMIT = 30.0
+#: ``--timeout`` of the real command that re-judges a case that hung in the child
+CONTAIN_TIMEOUT = 10.0
 #: the address space a child may use
 MEMORY_LIMIT = 3 * 2**30
 #: the memory budget ``check`` is given, well inside the limit
@@ -317,6 +325,11 @@ def _outcome(child: _Running, wait_status: int) -> Outcome:
     out = Outcome(child.case, "ok", "", expect=expect, damage=damage.get("description"), seconds=seconds)
     if child.killed:
         out.verdict, out.reason = "hang", f"no verdict within {seconds:.0f} s (killed)"
+        target = child.folder / Path(child.case.fixture).name
+        if target.exists():
+            contained = _contained(target)
+            if contained is not None:
+                out.verdict, out.reason = "contained", f"{out.reason}; the command said: {contained}"
         return out
     if os.WIFSIGNALED(wait_status):
         name = signal.Signals(os.WTERMSIG(wait_status)).name
@@ -325,6 +338,25 @@ def _outcome(child: _Running, wait_status: int) -> Outcome:
     out.status = os.WEXITSTATUS(wait_status)
     out.verdict, out.reason = judge_output(expect, out.status, stdout, stderr)
     return out
+
+
+def _contained(target: Path) -> str | None:
+    """The command's reason when ``integrity check TARGET --timeout CONTAIN_TIMEOUT``, run as a
+    real process with its worker pool, reports the file unreadable because it hung; else None."""
+    import subprocess
+
+    command = [sys.executable, "-m", "integrity", "check", str(target), "--format", "json", "--no-policy"]
+    command += ["--no-cache", "--quiet", "--jobs", "1", "--timeout", f"{CONTAIN_TIMEOUT:g}", "--memory", CHECK_MEMORY]
+    try:
+        done = subprocess.run(command, capture_output=True, text=True, timeout=CONTAIN_TIMEOUT + 120)
+    except subprocess.TimeoutExpired:
+        return None
+    report = _report(done.stdout)
+    files = (report or {}).get("files") or [{}]
+    error = files[0].get("error") or ""
+    if done.returncode == 2 and files[0].get("status") == "unreadable" and "hung" in error:
+        return error[:200]
+    return None
 
 
 def _read(path: Path) -> str:
@@ -360,7 +392,7 @@ class Summary:
         self.counts[outcome.verdict] += 1
         self.expected[outcome.expect or "?"] += 1
         self.seconds += outcome.seconds
-        if outcome.verdict != "ok":
+        if outcome.verdict in PROBLEMS:
             self.problems.append(outcome)
 
     def causes(self) -> list[tuple[tuple[str, str, str], tuple[int, str]]]:
@@ -376,7 +408,8 @@ class Summary:
 
     def table(self) -> str:
         """The counts as a plain-text table, then one line per problem."""
-        rows = [("cases", self.cases)] + [(LABELS[name], self.counts[name]) for name in PROBLEMS]
+        rows = [("cases", self.cases), (LABELS["contained"], self.counts["contained"])]
+        rows += [(LABELS[name], self.counts[name]) for name in PROBLEMS]
         width = max(len(name) for name, _ in rows)
         lines = [f"{name:<{width}}  {count:>7,}" for name, count in rows]
         kinds = ", ".join(f"{self.expected[k]:,} {k}" for k in (FAIL, EITHER, PASS))

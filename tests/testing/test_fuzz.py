@@ -206,3 +206,17 @@ def test_a_seeded_run_gives_no_memory_blow_up(seeded_run):
 def test_a_seeded_run_gives_no_silent_pass(seeded_run):
     found = [o for o in seeded_run.problems if o.verdict == "silent_pass"]
     assert not found, _listed(found)
+
+
+@pytest.mark.slow
+def test_a_file_on_which_the_hdf5_library_hangs_is_contained_by_the_commands_time_limit(tmp_path):
+    # 36 zeroed bytes in the global heap: reading any variable-length string attribute loops
+    # inside libhdf5, where no Python code runs. The child hangs; the real command, which reads
+    # each file in a worker process, reports it unreadable within --timeout and goes on.
+    case = Case(str(GOOD / "h4_chain_stretched_uhf.h5"), "zero_run", 1794433039)
+    (outcome,) = run_cases([case], time_limit=5, folder=tmp_path)
+    assert outcome.verdict == "contained", outcome.reason
+    assert "the HDF5 library hung reading it" in outcome.reason
+    summary = Summary()
+    summary.add(outcome)
+    assert summary.problems == []
