@@ -43,7 +43,7 @@ import numpy as np
 
 from integrity.solver.integrals import pair_symmetric
 from integrity.solver.irrep_blocks import IRREPS, BlockLayout
-from integrity.solver.parallel import run_units, single_threaded_blas, workers
+from integrity.solver.parallel import run_units, workers
 from integrity.solver.string_hamiltonian import string_hamiltonian
 from integrity.solver.strings import occupation_matrix, strings
 from integrity.solver.tables import excitation_table
@@ -387,13 +387,13 @@ def sigma_blocked(op: BlockedTwoString, c: np.ndarray) -> np.ndarray:
         matrix = op.h_beta[blocks[k].beta_irrep]
         out_views[k][lo:hi] += (matrix @ c_views[k][lo:hi].T).T
 
-    with single_threaded_blas():
-        run_units(alpha_unit, [(k, lo, hi) for k, b in enumerate(blocks) for lo, hi in _chunks(b.cols)])
-        run_units(beta_unit, [(k, lo, hi) for k, b in enumerate(blocks) for lo, hi in _chunks(b.rows)])
-        if op.targets:
-            sources = _sources(op, c_views, dtype)
-            units = [(t, start) for t in op.targets for start in range(0, t.cols, t.width)]
-            run_units(lambda unit: _alpha_beta_unit(op, sources, out_views, dtype, *unit), units)
+    # BLAS is held to one thread by the solve around this call (solve_arrays; see parallel.py)
+    run_units(alpha_unit, [(k, lo, hi) for k, b in enumerate(blocks) for lo, hi in _chunks(b.cols)])
+    run_units(beta_unit, [(k, lo, hi) for k, b in enumerate(blocks) for lo, hi in _chunks(b.rows)])
+    if op.targets:
+        sources = _sources(op, c_views, dtype)
+        units = [(t, start) for t in op.targets for start in range(0, t.cols, t.width)]
+        run_units(lambda unit: _alpha_beta_unit(op, sources, out_views, dtype, *unit), units)
     return out
 
 

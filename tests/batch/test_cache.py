@@ -15,7 +15,7 @@ from integrity.batch.cache import settings_digest
 from integrity.cli import main
 
 
-class Recording(InProcess):
+class ListingInProcess(InProcess):
     """Judges in this process and remembers which files it was given."""
 
     def __init__(self):
@@ -28,7 +28,7 @@ class Recording(InProcess):
 
 
 def run(paths, cache, **settings):
-    executor = Recording()
+    executor = ListingInProcess()
     entries = list(BatchRun(paths, BatchSettings(cache=str(cache), **settings), executor=executor))
     return [entry.as_dict() for entry in entries], executor.judged
 
@@ -90,7 +90,7 @@ def test_a_file_that_is_not_a_cache_is_reported_and_bypassed(in_tmp):
     cache = in_tmp / "verdicts.sqlite"
     cache.write_bytes(b"these are not the verdicts you are looking for" * 100)
     warnings = []
-    executor = Recording()
+    executor = ListingInProcess()
     settings = BatchSettings(cache=str(cache))
     report = list(BatchRun(paths, settings, executor=executor, warn=warnings.append))
     assert executor.judged == paths and [e.status for e in report] == ["pass", "pass"]
@@ -105,7 +105,7 @@ def test_a_damaged_entry_is_never_trusted(in_tmp):
     with sqlite3.connect(cache) as connection:
         connection.execute("UPDATE verdicts SET outcome = replace(outcome, '\"pass\"', '\"fail\"')")
     warnings = []
-    executor = Recording()
+    executor = ListingInProcess()
     again = [
         e.as_dict() for e in BatchRun(paths, BatchSettings(cache=str(cache)), executor=executor, warn=warnings.append)
     ]

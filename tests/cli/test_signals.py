@@ -13,39 +13,14 @@ import shutil
 import signal
 import subprocess
 import sys
-import time
 
 import pytest
 from locations import GOOD
-
-PAUSED = """
-import os, pathlib, sys, time
-marker = pathlib.Path(sys.argv[1])
-
-def paused_sync(fd):
-    marker.write_text("paused")
-    time.sleep(600)
-
-os.fsync = paused_sync
-from integrity.cli import main
-main(sys.argv[2:], prog_name="integrity")
-"""
+from paused_write import PAUSED, wait_for
 
 
 def _digest(path):
     return hashlib.sha256(path.read_bytes()).hexdigest()
-
-
-def _wait_for(path, process, limit=300.0):
-    """Until ``path`` exists (the process reached the pause); the limit only stops a broken test."""
-    start = time.monotonic()
-    while not path.exists():
-        if process.poll() is not None:
-            raise AssertionError(f"the process ended before the pause: {process.communicate()}")
-        if time.monotonic() - start > limit:
-            process.kill()
-            raise AssertionError("the process never reached the pause")
-        time.sleep(0.05)
 
 
 @pytest.mark.slow
@@ -79,7 +54,7 @@ def test_a_signal_during_a_write_leaves_no_part_file_and_exits_with_its_status(t
         text=True,
         cwd=tmp_path,
     )
-    _wait_for(marker, process)
+    wait_for(marker, process)
     assert list(tmp_path.glob(".out.json.*.part")), "the write had not begun"
     process.send_signal(signum)
     out, err = process.communicate(timeout=300)

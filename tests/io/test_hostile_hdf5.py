@@ -12,6 +12,8 @@ import tracemalloc
 import h5py
 import numpy as np
 import pytest
+from command_line import one_error_line
+from doubles import MeteredArray
 from plain_format import random_tree, write_plain_hdf5
 
 from integrity.checks import check
@@ -43,16 +45,6 @@ def replace_two_electron(handle, **create):
     dataset = handle.create_dataset("two_electron", **create)
     dataset.attrs.update(attrs)
     return dataset
-
-
-def one_error_line(runner, args) -> str:
-    result = runner.invoke(main, args)
-    assert result.exit_code == 2, (result.exit_code, result.output)
-    assert result.stdout == ""
-    lines = result.stderr.strip().splitlines()
-    assert len(lines) == 1, result.stderr
-    assert "Traceback" not in result.stderr and "internal error" not in result.stderr
-    return lines[0]
 
 
 def checked(runner, *paths) -> list[dict]:
@@ -288,23 +280,11 @@ def test_blocks_cover_the_array_once_in_c_order_within_the_budget(shape, budget)
     assert order == sorted(order)
 
 
-class Recording:
-    """An array that records the size of every read."""
-
-    def __init__(self, values):
-        self.values, self.shape, self.dtype, self.reads = values, values.shape, values.dtype, []
-
-    def __getitem__(self, key):
-        part = self.values[key]
-        self.reads.append(np.asarray(part).nbytes)
-        return part
-
-
 def test_the_finite_check_reads_no_block_larger_than_its_budget_and_finds_the_first_bad_value(rng):
     values = rng.standard_normal((6, 6, 6, 6))
     values[3, 1, 4, 2] = np.nan
     values[5, 0, 0, 1] = np.inf
-    array = Recording(values)
+    array = MeteredArray(values)
     first, count = _first_non_finite(array, 6 * 6 * 8)  # one (r, s) plane; a row of p is 6^3 values
     assert (first, count) == ((3, 1, 4, 2), 2)
     assert max(array.reads) <= 6 * 6 * 8

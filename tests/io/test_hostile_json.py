@@ -11,6 +11,7 @@ import json
 import os
 
 import pytest
+from command_line import one_error_line
 from plain_format import json_document, random_tree
 
 from integrity.checks import check
@@ -31,16 +32,6 @@ def checked(runner, *paths, extra=()) -> tuple[int, list[dict]]:
 
 def result_of(report: dict, check_id: str) -> dict:
     return next(c for c in report["checks"] if c["id"] == check_id)
-
-
-def one_error_line(runner, args) -> str:
-    result = runner.invoke(main, args)
-    assert result.exit_code == 2, (result.exit_code, result.output)
-    assert result.stdout == ""
-    lines = result.stderr.strip().splitlines()
-    assert len(lines) == 1, result.stderr
-    assert "internal error" not in lines[0]
-    return lines[0]
 
 
 @pytest.fixture

@@ -12,11 +12,11 @@ import shutil
 import signal
 import subprocess
 import sys
-import time
 
 import numpy as np
 import pytest
 from locations import GOOD
+from paused_write import PAUSED, wait_for
 
 from integrity.cli import main
 from integrity.io.atomic import host_name, part_owner
@@ -29,31 +29,6 @@ from integrity.testing.interruptions import (
     sha256,
     temporaries,
 )
-
-PAUSED = """
-import os, pathlib, sys, time
-marker = pathlib.Path(sys.argv[1])
-
-def paused_sync(fd):
-    marker.write_text("paused")
-    time.sleep(600)
-
-os.fsync = paused_sync
-from integrity.cli import main
-main(sys.argv[2:], prog_name="integrity")
-"""
-
-
-def _wait_for(path, process, limit=300.0):
-    """Until ``path`` exists (the process reached the pause); the limit only stops a broken test."""
-    start = time.monotonic()
-    while not path.exists():
-        if process.poll() is not None:
-            raise AssertionError(f"the process ended before the pause: {process.communicate()}")
-        if time.monotonic() - start > limit:
-            process.kill()
-            raise AssertionError("the process never reached the pause")
-        time.sleep(0.05)
 
 
 @pytest.mark.slow
@@ -70,7 +45,7 @@ def test_the_temporary_file_of_a_killed_write_is_ignored_by_check_and_removed_by
         stdout=subprocess.DEVNULL,
         stderr=subprocess.PIPE,
     )
-    _wait_for(marker, process)  # the temporary file is written and about to be synced
+    wait_for(marker, process)  # the temporary file is written and about to be synced
     process.send_signal(signal.SIGKILL)
     process.communicate(timeout=60)
 

@@ -8,6 +8,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from doubles import MeteredArray
 from hypothesis import given
 from hypothesis import strategies as st
 from plain_format import (
@@ -245,18 +246,6 @@ def test_title_references_provenance_and_annotations_are_not_in_the_fingerprint(
     assert fingerprint(annotated) == fingerprint(ham)
 
 
-class _Recording:
-    """An array that records the size of every read (a stand-in for an HDF5 dataset)."""
-
-    def __init__(self, array):
-        self.array, self.shape, self.dtype, self.reads = array, array.shape, array.dtype, []
-
-    def __getitem__(self, key):
-        out = np.asarray(self.array[key])
-        self.reads.append(out.nbytes)
-        return out
-
-
 @given(st.integers(0, 2**32 - 1), st.sampled_from([3, 4, 5]), st.sampled_from(["chemist", "physicist"]))
 def test_no_read_of_a_dense_array_exceeds_the_budget_while_a_row_of_n_squared_fits(seed, n, notation):
     rng = np.random.default_rng(seed)
@@ -271,8 +260,8 @@ def test_no_read_of_a_dense_array_exceeds_the_budget_while_a_row_of_n_squared_fi
     )
     expected = fingerprint(ham)
     budget = n * n * 8 * 2  # two q-columns of one first-index row: less than one row (n^3 values)
-    recording = _Recording(stored)
-    lazy = ham.replace(two_electron=TwoElectron(recording, notation=notation))
+    metered = MeteredArray(stored)
+    lazy = ham.replace(two_electron=TwoElectron(metered, notation=notation))
     with slab_budget(budget):
         assert fingerprint(lazy) == expected
-    assert recording.reads and max(recording.reads) <= budget
+    assert metered.reads and max(metered.reads) <= budget

@@ -1,0 +1,16 @@
+"""What a command prints when it refuses its input."""
+
+from __future__ import annotations
+
+from integrity.cli import main
+
+
+def one_error_line(runner, args) -> str:
+    """The single stderr line of a refused command (exit 2, nothing on stdout, no traceback)."""
+    result = runner.invoke(main, args)
+    assert result.exit_code == 2, (result.exit_code, result.output)
+    assert result.stdout == ""
+    lines = result.stderr.strip().splitlines()
+    assert len(lines) == 1, result.stderr
+    assert "Traceback" not in result.stderr and "internal error" not in result.stderr
+    return lines[0]
