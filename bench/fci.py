@@ -14,7 +14,7 @@ Sections (all in one run, so the ratios compare like with like):
 * ``water``: frozen-core full CI of water in cc-pVDZ (8 electrons in 23
   orbitals, C2v, 1A1) at the geometry of Olsen, Jørgensen, Koch, Balková and
   Bartlett, J. Chem. Phys. 104, 8007 (1996) (R(OH) = 1.84345 bohr,
-  HOH = 110.6°), against their energy (value recalled from memory, as quoted
+  HOH = 110.6°), against their energy (Source: that paper (from memory), as quoted
   in later coupled-cluster benchmarks that use it: -76.241860 hartree).
 
 Each solve runs in a fresh process. Peak memory is ``ru_maxrss`` at the end
@@ -42,7 +42,7 @@ from pathlib import Path
 
 ROOT = Path(__file__).resolve().parents[1]
 GIB = 2**30
-WATER_PUBLISHED = -76.241860  # Olsen et al. 1996, cc-pVDZ, frozen core, at R_e (recalled from memory)
+WATER_PUBLISHED = -76.241860  # Source: Olsen et al. 1996, cc-pVDZ, frozen core, at R_e (from memory)
 WATER_BOHR = (1.84345, 110.6)
 
 
@@ -220,7 +220,7 @@ def section_water(folder: Path) -> None:
     path = folder / "water_fc.npz"
     print(
         "water cc-pVDZ, frozen 1s, 8 electrons in 23 orbitals, C2v 1A1, R(OH) = 1.84345 bohr, HOH = 110.6 deg; "
-        "published: Olsen et al., J. Chem. Phys. 104, 8007 (1996), E = -76.241860 (recalled from memory)"
+        "published: Olsen et al., J. Chem. Phys. 104, 8007 (1996), E = -76.241860 (from memory)"
     )
     ours = run("native", path, True, budget=8 * GIB, timeout=15 * 60)
     if "timeout" in ours:

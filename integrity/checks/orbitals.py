@@ -7,9 +7,10 @@ symmetric, so the rule reads the same in either notation and for
 antisymmetrized arrays. Spin orbitals carry their spatial orbital's irrep.
 
 ``orbitals.canonical``: the Brillouin condition, F_ia = 0 between occupied and
-virtual orbitals of the Fock matrix the integrals give (Szabo and Ostlund,
-*Modern Quantum Chemistry*, sec. 3.3; the restricted open-shell blocks as in
-Roothaan's open-shell theory).
+virtual orbitals of the Fock matrix the integrals give (Source: Szabo and
+Ostlund, *Modern Quantum Chemistry*, sec. 3.3 (from memory); the restricted
+open-shell blocks as in Roothaan's open-shell theory, Rev. Mod. Phys. 32, 179
+(1960) (from memory)).
 """
 
 from __future__ import annotations

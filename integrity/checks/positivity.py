@@ -2,9 +2,9 @@
 
 For real values the pair matrix M[(pq),(rs)] = (pq|rs) over pairs p >= q, for
 complex values the Hermitian W[(pq),(rs)] = (qp|rs) over ordered pairs, must be
-positive semidefinite (Helgaker, Jorgensen, Olsen, *Molecular
-Electronic-Structure Theory*, sec. 9.12: the Coulomb kernel is positive, so
-the two-electron integrals form a Gram matrix). Unrestricted files are
+positive semidefinite (Source: Helgaker, Jorgensen, Olsen, *Molecular
+Electronic-Structure Theory*, sec. 9.12 (from memory): the Coulomb kernel is
+positive, so the two-electron integrals form a Gram matrix). Unrestricted files are
 judged on the joint matrix [[aa, ab], [ba, bb]].
 
 Method: the full spectrum when the pair space is small (at most

@@ -8,9 +8,9 @@ familiar relation (pq|rs)=(pq|sr) is c.a.c, and every element of the
 8-element group is a word of at most four generators. So if every listed
 relation holds to within e, every relation of the group holds to within 4e.
 
-Real chemist, 8-fold (Helgaker, Jorgensen, Olsen, *Molecular Electronic-Structure
+Real chemist, 8-fold (Source: Helgaker, Jorgensen, Olsen, *Molecular Electronic-Structure
 Theory*, eq. 9.2.4; Sherrill, "Permutational symmetries of one- and
-two-electron integrals"): (pq|rs) = (qp|rs) = (pq|sr) = (rs|pq) = ...
+two-electron integrals", lecture notes (both from memory)): (pq|rs) = (qp|rs) = (pq|sr) = (rs|pq) = ...
     generators (pq|rs) = (qp|rs) and (pq|rs) = (rs|pq)
 Complex chemist, 4-fold:   (pq|rs) = (rs|pq) = (qp|sr)*
 Real physicist, 8-fold:    <pq|rs> = <rq|ps> = <ps|rq> = <qp|sr> = ...

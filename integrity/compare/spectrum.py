@@ -4,11 +4,10 @@ the constant by which two files differ, and the diagnosis of an energy differenc
 Full CI is invariant under any rotation of the orbitals within the space: the
 determinants of N electrons in n orthonormal orbitals span the same N-electron
 space in every orthonormal basis of those orbitals, so the Hamiltonian
-restricted to that space has the same eigenvalues (Helgaker, Jørgensen and
-Olsen, *Molecular Electronic-Structure Theory*, Wiley 2000, ch. 11 on
+restricted to that space has the same eigenvalues (Source: Helgaker, Jørgensen
+and Olsen, *Molecular Electronic-Structure Theory*, Wiley 2000, ch. 11 on
 configuration-interaction theory, section 11.1, with the exponential
-parametrization of orbital rotations of ch. 3; section numbers cited from
-memory). Two files whose orbitals are rotated within the space therefore give
+parametrization of orbital rotations of ch. 3 (from memory)). Two files whose orbitals are rotated within the space therefore give
 the same full-CI energies though their elements differ. A determinant's energy
 is invariant only under rotations among its occupied orbitals and among its
 virtual ones, so the Hartree-Fock energies agree only where the occupations

@@ -4,8 +4,8 @@ For point nuclei of charges Z_A at positions R_A (bohr), in hartree::
 
     E_nuc = sum_{A < B} Z_A Z_B / |R_A - R_B|
 
-(the nuclear term of the Born-Oppenheimer Hamiltonian; Szabo and Ostlund,
-*Modern Quantum Chemistry*, sec. 2.1.2, recalled from memory). Coordinates in
+(the nuclear term of the Born-Oppenheimer Hamiltonian; Source: Szabo and Ostlund,
+*Modern Quantum Chemistry*, sec. 2.1.2 (from memory)). Coordinates in
 angstrom are divided by ``BOHR_ANGSTROM``, the value pyscf uses
 (``pyscf.lib.param.BOHR``, CODATA 2010): a file built with pyscf then agrees
 to rounding; against CODATA 2018 (0.529177210903 Å) the relative difference

@@ -24,8 +24,8 @@ vectors are the lowest eigenvectors of ``H_PP`` and the preconditioner
 ``M = theta - H0`` uses ``H_PP`` on those determinants and the diagonal
 elsewhere; the correction is Olsen's,
 ``t = M^-1 r - eps M^-1 x`` with ``eps = (x, M^-1 r) / (x, M^-1 x)``, which
-keeps it from falling back onto ``x`` when ``M`` is nearly exact (J. Olsen,
-P. Jørgensen, J. Simons, Chem. Phys. Lett. 169, 463 (1990)).
+keeps it from falling back onto ``x`` when ``M`` is nearly exact (Source: J. Olsen,
+P. Jørgensen, J. Simons, Chem. Phys. Lett. 169, 463 (1990) (from memory)).
 
 An optional ``project(v)`` (an orthogonal projector that commutes with H, for
 example onto one spin-flip parity) is applied to every new basis vector, which

@@ -2,8 +2,9 @@
 
 The Coulomb kernel is positive definite, so the pair matrix of real two-electron
 integrals is positive semidefinite and |(pq|rs)|^2 <= (pq|pq)(rs|rs)
-(Helgaker, Jorgensen, Olsen, *Molecular Electronic-Structure Theory*, sec. 9.12.1;
-Schwarz inequality as used in integral screening, Haeser and Ahlrichs, J. Comput. Chem. 10, 104 (1989)).
+(Source: Helgaker, Jorgensen, Olsen, *Molecular Electronic-Structure Theory*, sec. 9.12.1;
+Schwarz inequality as used in integral screening, Haeser and Ahlrichs, J. Comput. Chem. 10,
+104 (1989) (both from memory)).
 """
 
 from __future__ import annotations

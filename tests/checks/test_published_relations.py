@@ -2,7 +2,8 @@
 
 Sources: C. D. Sherrill, "Permutational symmetries of one- and two-electron
 integrals" (lecture notes, Georgia Tech); T. Helgaker, P. Jorgensen, J. Olsen,
-*Molecular Electronic-Structure Theory* (Wiley, 2000), sec. 1.4 and eq. 9.2.4-9.2.6.
+*Molecular Electronic-Structure Theory* (Wiley, 2000), sec. 1.4 and eq. 9.2.4-9.2.6
+(both from memory).
 Real orbitals: (pq|rs) = (qp|rs) = (pq|sr) = (qp|sr) = (rs|pq) = (sr|pq) = (rs|qp) = (sr|qp).
 Complex orbitals: (pq|rs) = (rs|pq) = (qp|sr)* = (sr|qp)*.
 Physicist: <pq|rs> = (pr|qs).
@@ -20,7 +21,7 @@ from pyscf import ao2mo, gto, scf
 from integrity.checks import check
 from integrity.checks.relations import orbit, relations_for
 
-REAL_EIGHT = [  # (pq|rs) equals X[...] under these index orders (Sherrill, eq. 7)
+REAL_EIGHT = [  # (pq|rs) equals X[...] under these index orders (Sherrill, eq. 7, from memory)
     (0, 1, 2, 3),
     (1, 0, 2, 3),
     (0, 1, 3, 2),

@@ -51,7 +51,8 @@ def test_both_engines_agree_on_the_o2_singlet():
 
 def test_the_hubbard_dimer_levels_are_the_analytic_ones(tmp_path):
     """Two sites at half filling: U/2 - sqrt(U^2/4 + 4t^2), 0 (triplet), U, U/2 + sqrt(...)
-    (e.g. Fazekas, Lecture Notes on Electron Correlation and Magnetism, 1999, sec. 5.1)."""
+    (Source: Fazekas, Lecture Notes on Electron Correlation and Magnetism, World Scientific
+    (1999), section 5.1 (from memory))."""
     import numpy as np
 
     from integrity import Electrons, Hamiltonian, Orbitals, TwoElectron, save

@@ -1,8 +1,8 @@
 """The random Hamiltonians the other tests use really have the symmetry they claim.
 
-Relations: the real 8-fold group as in Helgaker, Jorgensen, Olsen, *Molecular
-Electronic-Structure Theory* (2000), ch. 9 (cited from memory, as in
-integrity/checks/relations.py; the equation number is not re-checked here);
+Relations: the real 8-fold group (Source: Helgaker, Jorgensen, Olsen, *Molecular
+Electronic-Structure Theory* (2000), ch. 9 (from memory), as in
+integrity/checks/relations.py);
 the complex 4-fold group and the unrestricted ab block follow from the
 integrals' definitions in docs/format.md (derived in builders).
 """

@@ -3,8 +3,8 @@
 Index maps from docs/format.md: spatial p, spin s -> 2p + s (interleaved) or p + s n
 (blocked). Spin-orbital integrals vanish unless spins match,
 (P Q|R S) = (pq|rs) delta(s_P, s_Q) delta(s_R, s_S), and
-<pq||rs> = <pq|rs> - <pq|sr> (docs/format.md; both as in Szabo and Ostlund,
-*Modern Quantum Chemistry*, ch. 2, recalled from memory).
+<pq||rs> = <pq|rs> - <pq|sr> (docs/format.md; Source: Szabo and Ostlund,
+*Modern Quantum Chemistry*, ch. 2 (from memory)).
 """
 
 from __future__ import annotations

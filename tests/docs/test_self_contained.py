@@ -17,13 +17,8 @@ import re
 from pathlib import Path
 
 import pytest
-
-ROOT = Path(__file__).resolve().parents[2]
-SEARCHED = (
-    *("README.md", "DEVELOPERS.md", "pyproject.toml", ".ci"),
-    *("docs", "integrity", "tests", "bench", "fixtures", "schemas"),
-)
-SKIPPED_FOLDERS = {"__pycache__", ".pytest_cache", ".hypothesis", ".ruff_cache"}
+from documents import read_text, text_files
+from locations import REPOSITORY as ROOT
 
 # written in pieces so that this file does not match its own patterns
 DESIGN_FOLDER = "shared" + "/" + "design"
@@ -33,28 +28,6 @@ DRIVE = re.compile(r"(?<![\w])[A-Za-z]:\\\\?[A-Za-z]")
 CLIMBING = re.compile(r"(?:\.\./)+[^\s`'\"()\[\]<>,;:#*]*")
 MARKDOWN = re.compile(r"(?<![\w./-])(?:[\w.-]+/)*[\w.-]*[\w-]\.md\b")
 URL = re.compile(r"\b\w+://\S+")
-
-
-def text_files() -> list[Path]:
-    files = []
-    for name in SEARCHED:
-        path = ROOT / name
-        if path.is_file():
-            files.append(path)
-        elif path.is_dir():
-            files += [p for p in sorted(path.rglob("*")) if p.is_file() and not SKIPPED_FOLDERS & set(p.parts)]
-    return files
-
-
-def read_text(path: Path) -> str | None:
-    """The file's text, or None for a binary file."""
-    data = path.read_bytes()
-    if b"\x00" in data[:8192]:
-        return None
-    try:
-        return data.decode("utf-8")
-    except UnicodeDecodeError:
-        return None
 
 
 def _inside(target: Path) -> bool:

@@ -21,7 +21,7 @@ WATER = [("O", (0.0, 0.0, 0.0)), ("H", (0.0, 0.757, 0.587)), ("H", (0.0, -0.757,
 
 
 def test_nuclear_repulsion_of_h2_is_one_over_r_in_bohr():
-    # two protons 1.4 bohr apart: 1/1.4 hartree (Szabo and Ostlund, sec. 3.5.2, recalled from memory)
+    # two protons 1.4 bohr apart: 1/1.4 hartree (Source: Szabo and Ostlund, sec. 3.5.2 (from memory))
     assert nuclear_repulsion([("H", (0, 0, 0)), ("H", (0, 0, 1.4))], "bohr") == pytest.approx(1 / 1.4, rel=1e-15)
     angstrom = 1.4 * BOHR_ANGSTROM
     assert nuclear_repulsion([("H", (0, 0, 0)), ("H", (0, 0, angstrom))]) == pytest.approx(1 / 1.4, rel=1e-14)

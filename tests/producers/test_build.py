@@ -2,8 +2,9 @@
 
 Published values: A. Szabo and N. S. Ostlund, *Modern Quantum Chemistry* (1989),
 section 3.5.2 (minimal-basis H2, STO-3G, R = 1.4 bohr) and the full-CI
-treatment of the same model in chapter 4. They are printed to 4 decimals and are
-quoted here as recalled from memory, not copied from the book.
+treatment of the same model in chapter 4, printed to 4 decimals (from memory).
+Where the book is silent (the orbital symmetry labels, the full CI of a larger
+molecule), pyscf is the independent check (reference library).
 """
 
 from __future__ import annotations
@@ -30,20 +31,21 @@ def _geometry(lines):
     return [part for line in lines for part in ("--geometry", line)]
 
 
-# Szabo and Ostlund (1989), section 3.5.2, H2 STO-3G at R = 1.4 bohr, MO basis
-# (values recalled from memory)
+# Source: Szabo and Ostlund (1989), section 3.5.2, H2 STO-3G at R = 1.4 bohr, MO basis (from memory)
 SZABO_H11 = -1.2528
 SZABO_H22 = -0.4756
 SZABO_J11 = 0.6746  # (11|11)
 SZABO_J12 = 0.6636  # (11|22)
 SZABO_J22 = 0.6975  # (22|22)
 SZABO_K12 = 0.1813  # (12|12) = (12|21)
-SZABO_EPSILON_1 = -0.5782  # orbital energies (recalled from memory)
+SZABO_EPSILON_1 = -0.5782  # orbital energies
 SZABO_EPSILON_2 = 0.6703
 SZABO_NUCLEAR_REPULSION = 0.7143  # 1/R = 1/1.4
 SZABO_E_HF = -1.1167  # total Hartree-Fock energy, hartree
-SZABO_E_FCI = -1.1373  # full CI (chapter 4), hartree (recalled from memory)
-SZABO_E_CORRELATION = -0.0205  # (recalled from memory)
+SZABO_E_FCI = -1.1373  # Source: Szabo and Ostlund (1989), chapter 4, full CI, hartree (from memory)
+# Source: Szabo and Ostlund (1989), chapter 4, E_FCI - E_HF = -1.1373 - (-1.1167) (from memory);
+# pyscf gives -0.020562 (reference library)
+SZABO_E_CORRELATION = -0.0206
 
 
 @pytest.fixture(scope="module", autouse=True)
@@ -66,7 +68,7 @@ def hydroxyl_unrestricted():
     return build(HYDROXYL, "sto-3g", two_s=1, unrestricted=True)
 
 
-# ---------------------------------------------------------------- H2, Szabo and Ostlund
+# ---------------------------------------------------------------- H2, the minimal-basis model
 
 
 def test_h2_in_sto3g_has_two_spatial_orbitals_and_so_four_spin_orbitals(h2):
@@ -157,16 +159,25 @@ def test_h2_full_ci_energy_matches_szabo_and_ostlund(h2):
 
 def test_h2_correlation_energy_matches_szabo_and_ostlund(h2):
     correlation = h2.reference("fci").energy - h2.reference("hf").energy
-    # a difference of two figures printed to 4 decimals: allow one unit of the last place
-    assert correlation == pytest.approx(SZABO_E_CORRELATION, abs=1e-4)
-    assert correlation < 0
+    assert is_close_to(correlation, SZABO_E_CORRELATION, 4), correlation
 
 
-def test_h2_irreps_are_those_of_d2h_and_the_one_electron_matrix_respects_them(h2):
-    assert h2.orbitals.point_group == "D2h"
-    sigma_g, sigma_u = h2.orbitals.irreps
-    assert sigma_g == 0  # the totally symmetric irrep
-    assert sigma_u != sigma_g
+def test_h2_irreps_are_the_d2h_labels_pyscf_gives_its_orbitals(h2):
+    """sigma_g is Ag and sigma_u is B1u (z the molecular axis), by name and by number.
+
+    Source: pyscf ``symm.label_orb_symm`` on its own RHF orbitals (reference library);
+    sigma_g = Ag, sigma_u = B1u in D2h with the bond along z (common practice).
+    """
+    from pyscf import gto, scf, symm
+
+    mol = gto.M(atom=[("H", (0, 0, 0)), ("H", (0, 0, 1.4))], unit="bohr", basis="sto-3g", symmetry="D2h", verbose=0)
+    mf = scf.RHF(mol)
+    mf.kernel()
+    labels = symm.label_orb_symm(mol, mol.irrep_name, mol.symm_orb, mf.mo_coeff)
+    assert mol.groupname == h2.orbitals.point_group == "D2h"
+    names = h2.provenance["irrep_names"].split()
+    assert [names[i] for i in h2.orbitals.irreps] == list(labels) == ["Ag", "B1u"]
+    assert list(h2.orbitals.irreps) == [symm.irrep_name2id("D2h", label) for label in labels]
 
 
 def test_the_build_command_writes_the_same_h2_file(runner, in_tmp, h2):
@@ -349,6 +360,26 @@ def test_the_unrestricted_hf_reference_is_the_energy_of_its_determinant(hydroxyl
     assert uhf.kernel() == pytest.approx(energy, abs=1e-7)
 
 
-def test_the_unrestricted_fci_reference_lies_below_hf(hydroxyl_unrestricted):
+def test_the_unrestricted_full_space_fci_reference_is_pyscfs_full_ci(hydroxyl_unrestricted):
+    """The full-space FCI of OH (doublet) equals pyscf's, from pyscf's own UHF orbitals.
+
+    Source: pyscf ``fci.direct_uhf`` on integrals pyscf transforms itself (reference library).
+    Full CI in the full space does not depend on the orbitals (common practice), so any
+    orbital set pyscf converges to gives the same energy.
+    """
+    from pyscf import ao2mo, fci, gto, scf
+
     ham = hydroxyl_unrestricted
+    mol = gto.M(atom=HYDROXYL, basis="sto-3g", spin=1, verbose=0)
+    uhf = scf.UHF(mol)
+    uhf.conv_tol = 1e-11
+    uhf.kernel()
+    ca, cb = uhf.mo_coeff
+    h_ao, n = uhf.get_hcore(), ca.shape[1]
+    h1 = (ca.T @ h_ao @ ca, cb.T @ h_ao @ cb)
+    eri = [ao2mo.restore(1, ao2mo.general(mol, c), n) for c in ((ca, ca, ca, ca), (ca, ca, cb, cb), (cb, cb, cb, cb))]
+    solver = fci.direct_uhf.FCI()
+    solver.conv_tol = 1e-12
+    energy, _ = solver.kernel(h1, eri, n, mol.nelec, ecore=mol.energy_nuc())
+    assert ham.reference("fci").energy == pytest.approx(energy, abs=1e-8)
     assert ham.reference("fci").energy < ham.reference("hf").energy

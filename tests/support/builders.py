@@ -4,8 +4,8 @@ Written from docs/format.md, not from the library: pair indices, the spin-orbita
 index maps and the symmetric arrays are built with plain loops, so they can
 judge the library's fast paths.
 
-Symmetric arrays (the real 8-fold group as in Helgaker, Jorgensen, Olsen,
-*Molecular Electronic-Structure Theory*, ch. 9, cited from memory; the complex 4-fold group
+Symmetric arrays (the real 8-fold group, Source: Helgaker, Jorgensen, Olsen,
+*Molecular Electronic-Structure Theory*, ch. 9 (from memory); the complex 4-fold group
 (pq|rs) = (rs|pq) = (qp|sr)* follows from (pq|rs) = sum_k B_k[p,q] W_kl B_l[r,s]
 with Hermitian B_k[q,p] = B_k[p,q]* and real symmetric W, derived in
 ``complex_chemist`` and tested in test_builders.py):

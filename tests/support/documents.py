@@ -1,5 +1,6 @@
-"""The project's documents as test data: docs/format.md and docs/checks.md, and the worked
-example that docs/format.md prints, written as files by plain json and h5py (no library code)."""
+"""The project's documents as test data: docs/format.md and docs/checks.md, the worked
+example that docs/format.md prints, written as files by plain json and h5py (no library code),
+and the repository's text files, which the document tests search line by line."""
 
 from __future__ import annotations
 
@@ -13,6 +14,14 @@ from locations import REPOSITORY
 
 FORMAT = REPOSITORY / "docs/format.md"
 CHECKS = REPOSITORY / "docs/checks.md"
+#: the repository's own text, as the document tests search it
+SEARCHED = (
+    *("README.md", "DEVELOPERS.md", "pyproject.toml", ".ci"),
+    *("docs", "integrity", "tests", "bench", "fixtures", "schemas"),
+)
+SKIPPED_FOLDERS = {"__pycache__", ".pytest_cache", ".hypothesis", ".ruff_cache"}
+
+
 
 
 def read(path: Path) -> str:
@@ -100,3 +109,25 @@ def write_example_hdf5(path: Path, doc: dict | None = None) -> Path:
                 else:
                     scalar(provenance, key, value)
     return path
+
+
+def text_files() -> list[Path]:
+    files = []
+    for name in SEARCHED:
+        path = REPOSITORY / name
+        if path.is_file():
+            files.append(path)
+        elif path.is_dir():
+            files += [p for p in sorted(path.rglob("*")) if p.is_file() and not SKIPPED_FOLDERS & set(p.parts)]
+    return files
+
+
+def read_text(path: Path) -> str | None:
+    """The file's text, or None for a binary file."""
+    data = path.read_bytes()
+    if b"\x00" in data[:8192]:
+        return None
+    try:
+        return data.decode("utf-8")
+    except UnicodeDecodeError:
+        return None

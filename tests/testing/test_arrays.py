@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
+from plain_format import is_close_to
 
 from integrity.solver import slater_condon_solve, solve_arrays
 from integrity.testing.arrays import hubbard, hund_pair
@@ -11,9 +12,9 @@ from integrity.testing.arrays import hubbard, hund_pair
 
 @pytest.mark.parametrize(("t", "u"), [(1.0, 4.0), (0.5, 1.0), (1.0, 0.0), (0.3, 10.0)])
 def test_hubbard_dimer_at_half_filling_has_the_analytic_levels(t, u):
-    # Two-site Hubbard model, two electrons, S_z = 0 (Fazekas, Lecture Notes on Electron
-    # Correlation and Magnetism, World Scientific 1999, section 5.1; section number recalled
-    # from memory): singlets at U/2 -+ sqrt(U²/4 + 4t²) and U, the triplet at 0.
+    # Two-site Hubbard model, two electrons, S_z = 0: singlets at U/2 -+ sqrt(U²/4 + 4t²) and U,
+    # the triplet at 0. Source: Fazekas, Lecture Notes on Electron Correlation and Magnetism,
+    # World Scientific (1999), section 5.1 (from memory).
     h, eri = hubbard(2, t=t, u=u)
     root = np.sqrt(u * u / 4 + 4 * t * t)
     expected = sorted([u / 2 - root, 0.0, u, u / 2 + root])
@@ -28,7 +29,7 @@ def test_hubbard_dimer_at_half_filling_has_the_analytic_levels(t, u):
 
 
 def test_hubbard_dimer_triplet_components_sit_at_zero_in_every_sz_sector():
-    # Fazekas 1999 (as above): the M_S = ±1 triplet components have energy 0.
+    # the M_S = ±1 triplet components have energy 0 (Source: Fazekas 1999, as above (from memory)).
     h, eri = hubbard(2, t=1.0, u=3.0)
     for n_alpha, n_beta in ((2, 0), (0, 2)):
         result = solve_arrays("restricted", h, eri, n_alpha=n_alpha, n_beta=n_beta)
@@ -63,8 +64,8 @@ def test_noninteracting_hubbard_ring_fills_the_lowest_band_levels(sites, n_alpha
 
 
 def test_h2_sto3g_at_1_4_bohr_reproduces_the_szabo_ostlund_full_ci_energy():
-    # Szabo and Ostlund, Modern Quantum Chemistry (1989), chapter 4, H2/STO-3G at R = 1.4 bohr:
-    # E(FCI) = -1.1373 hartree and correlation energy -0.0205 hartree (recalled from memory).
+    # Source: Szabo and Ostlund, Modern Quantum Chemistry (1989), chapter 4, H2/STO-3G at
+    # R = 1.4 bohr: E(FCI) = -1.1373 hartree, correlation energy -0.0206 hartree (from memory).
     from pyscf import ao2mo, gto, scf
 
     mol = gto.M(atom="H 0 0 0; H 0 0 1.4", unit="bohr", basis="sto-3g", verbose=0)
@@ -74,8 +75,8 @@ def test_h2_sto3g_at_1_4_bohr_reproduces_the_szabo_ostlund_full_ci_energy():
     eri = ao2mo.restore(1, ao2mo.kernel(mol, c), 2)
     result = solve_arrays("restricted", h1, eri, mol.energy_nuc(), n_alpha=1, n_beta=1)
     energy = result.roots[0].energy
-    assert abs(energy - (-1.1373)) < 1e-4
-    assert abs((energy - mf.e_tot) - (-0.0205)) < 1e-4
+    assert is_close_to(energy, -1.1373, 4)
+    assert is_close_to(energy - mf.e_tot, -0.0206, 4)
 
 
 def test_hund_pair_levels_follow_from_the_two_electron_matrix():
