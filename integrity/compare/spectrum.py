@@ -7,7 +7,8 @@ space in every orthonormal basis of those orbitals, so the Hamiltonian
 restricted to that space has the same eigenvalues (Source: Helgaker, Jørgensen
 and Olsen, *Molecular Electronic-Structure Theory*, Wiley 2000, ch. 11 on
 configuration-interaction theory, section 11.1, with the exponential
-parametrization of orbital rotations of ch. 3 (from memory)). Two files whose orbitals are rotated within the space therefore give
+parametrization of orbital rotations of ch. 3 (from memory)). Two files whose
+orbitals are rotated within the space therefore give
 the same full-CI energies though their elements differ. A determinant's energy
 is invariant only under rotations among its occupied orbitals and among its
 virtual ones, so the Hartree-Fock energies agree only where the occupations

@@ -153,7 +153,6 @@ def test_spin_orbital_and_back_keeps_every_reference_energy(n, is_complex, layou
         _assert_same_energies(ham, convert(so, basis="restricted").hamiltonian)
 
 
-
 def _fci_energy(ham):
     from integrity.solver import solve_arrays
 

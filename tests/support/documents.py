@@ -22,8 +22,6 @@ SEARCHED = (
 SKIPPED_FOLDERS = {"__pycache__", ".pytest_cache", ".hypothesis", ".ruff_cache"}
 
 
-
-
 def read(path: Path) -> str:
     return path.read_text(encoding="utf-8")
 
