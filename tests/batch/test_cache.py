@@ -8,6 +8,7 @@ import os
 import sqlite3
 from pathlib import Path
 
+import pytest
 from delivery import damage, delivery, write_entries
 
 from integrity.batch import BatchRun, BatchSettings, InProcess, ResultCache
@@ -33,6 +34,7 @@ def run(paths, cache, **settings):
     return [entry.as_dict() for entry in entries], executor.judged
 
 
+@pytest.mark.slow
 def test_a_warm_run_gives_the_cold_report_without_judging_anything(in_tmp, runner):
     paths = delivery(in_tmp / "scan", 6)
     damage(paths[2])
@@ -129,6 +131,7 @@ def test_a_locked_cache_is_reported_and_bypassed(in_tmp):
         holder.close()
 
 
+@pytest.mark.slow
 def test_the_command_line_says_when_the_cache_is_bypassed(in_tmp, runner):
     delivery(in_tmp / "scan", 1)
     (in_tmp / "verdicts.sqlite").write_text("not a database")

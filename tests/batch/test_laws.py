@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import json
 
+import pytest
 from hypothesis import given
 from hypothesis import strategies as st
 
@@ -46,6 +47,7 @@ reports = st.builds(
 )
 
 
+@pytest.mark.slow
 @given(reports)
 def test_a_report_comes_back_from_its_dict_and_from_json(report):
     assert FileReport.from_dict(report.as_dict()) == report

@@ -48,6 +48,7 @@ def test_each_worker_gets_its_share_of_the_memory(in_tmp):
     assert BatchRun([in_tmp], settings).worker_options().memory == settings.options.memory // 4
 
 
+@pytest.mark.slow
 def test_a_crash_or_hang_costs_one_file_and_the_batch_goes_on(in_tmp):
     paths = delivery(in_tmp / "scan", 4)
     crash = in_tmp / "scan" / "scan_crash.h5"

@@ -156,6 +156,7 @@ def test_jobs_on_the_command_line_runs_locally_over_a_policy_scheduler(in_tmp):
     assert settle(policy, jobs=2).scheduler is None
 
 
+@pytest.mark.slow
 def test_check_follows_the_policy_and_says_which(in_tmp, runner):
     paths = delivery(in_tmp / "scan", 2)
     damage(paths[0])

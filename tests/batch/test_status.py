@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import threading
 
+import pytest
 from locations import GOOD
 
 from integrity.batch import BatchRun, BatchSettings
@@ -12,6 +13,7 @@ from integrity.cli.render import batch_progress_text
 from integrity.solver import SolveProgress
 
 
+@pytest.mark.slow
 def test_workers_report_every_check_in_order_and_the_solve_inside_energy_fci():
     # the Hubbard ring's space is large enough for Davidson iterations; the other's is solved directly
     files = [str(GOOD / "hubbard_ring6_u4.json"), str(GOOD / "lih_sto3g.h5")]
@@ -33,6 +35,7 @@ def test_workers_report_every_check_in_order_and_the_solve_inside_energy_fci():
     assert all(u.iteration >= 1 and u.determinants > 0 for c, u in solves)
 
 
+@pytest.mark.slow
 def test_no_channel_without_a_listener():
     run = BatchRun([str(GOOD / "lih_sto3g.h5")], BatchSettings(jobs=1))
     assert [entry.status for entry in run] == ["pass"]

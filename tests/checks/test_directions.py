@@ -65,6 +65,7 @@ def test_a_check_that_counts_problems_has_no_limit_to_set(check_id):
         parse_tolerances(None, None, [f"{check_id}=1"])
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("path", FIXTURE_FILES, ids=lambda p: f"{p.parent.name}/{p.name}")
 def test_the_law_holds_for_every_result_on_every_fixture(path):
     report = check(path)

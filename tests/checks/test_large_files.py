@@ -36,6 +36,7 @@ def test_a_file_beyond_the_budget_stays_on_disk(large_file):
         assert isinstance(document.content["two_electron"]["array"], np.ndarray)
 
 
+@pytest.mark.slow
 def test_block_by_block_results_equal_the_in_memory_ones(large_file):
     path, _ = large_file
     on_disk = check(path, memory=BUDGET)

@@ -39,6 +39,7 @@ def integrals(request):
     return ao, mo
 
 
+@pytest.mark.slow
 def test_pyscf_integrals_are_positive_and_obey_coulomb_exchange_and_schwarz(integrals):
     for eri in integrals:
         result = check(with_two_electron(eri), only=POSITIVE).results[0]
@@ -48,6 +49,7 @@ def test_pyscf_integrals_are_positive_and_obey_coulomb_exchange_and_schwarz(inte
         assert result.details["exchange_min"] >= 0
 
 
+@pytest.mark.slow
 def test_the_cholesky_path_agrees_with_the_eigenvalue_path(integrals, monkeypatch):
     _, mo = integrals
     monkeypatch.setattr(positivity_module, "EIGEN_PAIRS", 0)
@@ -57,6 +59,7 @@ def test_the_cholesky_path_agrees_with_the_eigenvalue_path(integrals, monkeypatc
     assert result.details["cholesky_rank"] <= result.details["pairs"]
 
 
+@pytest.mark.slow
 def test_packed_storages_give_the_same_verdict(integrals):
     _, mo = integrals
     pairs = pack_pairs(mo)
@@ -78,6 +81,7 @@ def _indefinite(mo):
     return unpack_pairs(pairs, n), -0.5 * values[-1]
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("eigen_pairs", [10**6, 0], ids=["eigenvalues", "cholesky"])
 def test_an_indefinite_pair_matrix_fails_by_both_methods(integrals, monkeypatch, eigen_pairs):
     _, mo = integrals

@@ -24,6 +24,7 @@ def _statuses(report):
     return {r.id: r for r in report.results}
 
 
+@pytest.mark.slow
 def test_a_file_without_a_checksum_warns_and_fails_under_strict(runner, in_tmp):
     document = json.loads((GOOD / "water_sto3g.json").read_text())
     del document["checksum"]
@@ -36,6 +37,7 @@ def test_a_file_without_a_checksum_warns_and_fails_under_strict(runner, in_tmp):
     assert "checksum: no checksum stored" in strict.stdout
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize(
     ("change", "check_ids", "field"),
     [
@@ -142,6 +144,7 @@ def test_alpha_beta_coupling_in_a_file_converted_from_spatial_orbitals_says_it_w
     assert "made from spatial orbitals" in result.message and str(result.where) == "one_electron[0, 6]"
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize(
     "name",
     [

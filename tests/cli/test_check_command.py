@@ -86,6 +86,7 @@ def test_a_malformed_tolerance_is_a_usage_error(runner):
     assert runner.invoke(main, ["check", GOOD, "--tolerance", "energy.hf=-1"]).exit_code == 2
 
 
+@pytest.mark.slow
 def test_strict_mode_turns_a_warning_into_a_failure(runner):
     ring = str(FIXTURES / "good" / "hubbard_ring6_u4.json")
     assert runner.invoke(main, ["check", ring]).exit_code == 0

@@ -43,6 +43,7 @@ def test_a_rung_below_the_accepted_one_exits_1(runner):
     assert "not equivalent; --accept identical" in result.output
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize(
     ("first", "second", "verdict"),
     [
@@ -67,6 +68,7 @@ def test_the_schema_catches_a_report_that_breaks_it(runner):
     assert {problem.path for problem in schema_problems(document, name="comparison")} == {("rung",), ("steps",)}
 
 
+@pytest.mark.slow
 def test_files_of_different_sizes_are_compared_as_far_as_meaningful_without_a_traceback(runner):
     result = runner.invoke(main, ["compare", str(GOOD / "lih_sto3g.h5"), str(GOOD / "water_sto3g.json")])
     assert result.exit_code == 1

@@ -266,6 +266,7 @@ def test_sizes_in_a_memory_refusal_are_humanized(runner):
     assert not any(len(word) > 9 and word.replace(".", "").isdigit() for word in result.stderr.split())
 
 
+@pytest.mark.slow
 def test_json_null_is_printed_as_null_and_no_none_reaches_the_text(runner):
     finding = runner.invoke(main, ["diagnose", str(GOOD / "lih_sto3g.h5"), "--expected", "-7.5"])
     assert finding.exit_code == 1

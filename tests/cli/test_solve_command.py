@@ -26,6 +26,7 @@ def test_the_half_filled_hubbard_ring_reproduces_its_pyscf_references():
     assert [r["two_s"] for r in roots] == [0, 2]
 
 
+@pytest.mark.slow
 def test_both_engines_agree_on_the_o2_singlet():
     result = CliRunner().invoke(
         main,

@@ -158,6 +158,7 @@ def test_a_missing_frozen_core_energy_is_a_constant_named_by_its_part(rhf, refer
     assert compare(reference, other, accept="constant").equivalent
 
 
+@pytest.mark.slow
 def test_orbitals_localized_within_the_occupied_and_virtual_spaces_give_the_same_spectrum(rhf, reference):
     from pyscf import lo
 

@@ -74,6 +74,7 @@ def test_a_random_restricted_hamiltonian_is_recovered_with_its_order_and_signs(r
         assert list(verdict.relabelling.signs[0]) == list(np.multiply(signs, signs[0]))
 
 
+@pytest.mark.slow
 @PROPERTY_SETTINGS
 @given(
     relabelling=st.integers(2, 5).flatmap(

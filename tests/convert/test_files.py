@@ -39,6 +39,7 @@ def saved(tmp_path):
     return ham, path
 
 
+@pytest.mark.slow
 @PROPERTY_SETTINGS
 @given(
     basis=st.sampled_from(sorted(BUILDERS)),

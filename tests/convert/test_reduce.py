@@ -85,6 +85,7 @@ def cation(one_openmp_thread):
     return mf, _full_space(mf)
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("active", [(2, 3, 4, 5, 6, 7), (2, 3, 4, 6, 7, 9)], ids=["contiguous", "chosen"])
 def test_restricted_reduction_equals_pyscf_casci(water, active):
     from pyscf import ao2mo, mcscf

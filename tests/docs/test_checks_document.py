@@ -147,6 +147,7 @@ def test_a_broken_symmetry_points_at_the_altered_element(runner, tmp_path):
     assert symmetry["value"] == pytest.approx(1e-3) and symmetry["limit"] == 1e-10
 
 
+@pytest.mark.slow
 def test_exit_statuses(runner, tmp_path):
     good = write_example_json(tmp_path / "good.json")
     doc = example()

@@ -110,6 +110,7 @@ def test_a_complex_one_electron_matrix_stored_transposed_passes_structure_and_is
     assert "one_electron is stored transposed" in energy.message and "reproduces the reference energy" in energy.message
 
 
+@pytest.mark.slow
 def test_the_transposed_hypothesis_reproduces_the_energy_and_a_real_file_does_not_try_it():
     ham = _complex_with_fci_reference(5)
     transposed = ham.replace(one_electron=np.ascontiguousarray(np.asarray(ham.one_electron).T))

@@ -17,6 +17,7 @@ CASES = [
 ]
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize(("name", "label", "hypothesis", "words"), CASES, ids=[c[0] for c in CASES])
 def test_the_matching_hypothesis_names_the_fault(name, label, hypothesis, words):
     finding = diagnose(load(DAMAGED / name), reference=label)

@@ -74,6 +74,7 @@ hdf5_styles = st.fixed_dictionaries(
 )
 
 
+@pytest.mark.slow
 @FILE_SETTINGS
 @given(trees(), hdf5_styles)
 def test_any_file_written_with_plain_h5py_loads_with_every_value_intact(tree, style):

@@ -332,6 +332,7 @@ def test_an_array_replaced_by_a_soft_link_to_nowhere_is_unreadable_naming_the_li
     assert "/one_electron" in one_error_line(runner, ["show", str(path)])
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("value", [np.nan, np.inf])
 def test_a_non_finite_attribute_is_a_schema_finding_naming_it(runner, good, value):
     path, _ = good

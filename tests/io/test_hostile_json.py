@@ -67,6 +67,7 @@ SCHEMA_CASES = {
 }
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("name", list(SCHEMA_CASES))
 def test_wrong_types_are_schema_findings_in_check_and_one_line_in_show(runner, tmp_path, document, name):
     mutate, field = SCHEMA_CASES[name]

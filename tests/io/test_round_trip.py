@@ -43,6 +43,7 @@ def _round_trip(ham: Hamiltonian, folder: Path, **hdf5_options) -> None:
     assert (folder / "d.json").read_bytes() == (folder / "b.json").read_bytes()
 
 
+@pytest.mark.slow
 @FILE_SETTINGS
 @given(hamiltonians())
 def test_any_hamiltonian_survives_hdf5_json_hdf5_bit_for_bit(ham):
@@ -50,6 +51,7 @@ def test_any_hamiltonian_survives_hdf5_json_hdf5_bit_for_bit(ham):
         _round_trip(ham, Path(folder))
 
 
+@pytest.mark.slow
 @FILE_SETTINGS
 @given(hamiltonians(optional=True))
 def test_a_hamiltonian_with_every_optional_field_survives_the_round_trip(ham):
@@ -57,6 +59,7 @@ def test_a_hamiltonian_with_every_optional_field_survives_the_round_trip(ham):
         _round_trip(ham, Path(folder))
 
 
+@pytest.mark.slow
 @FILE_SETTINGS
 @given(hamiltonians(optional=False))
 def test_a_hamiltonian_without_optional_fields_gains_none_in_the_round_trip(ham):

@@ -27,6 +27,7 @@ from integrity.model.hamiltonian import Electrons, Hamiltonian, Orbitals, Refere
 from integrity.model.slabs import slab_budget
 
 
+@pytest.mark.slow
 @FILE_SETTINGS
 @given(hamiltonians())
 def test_an_independent_implementation_of_the_recipe_agrees_with_integrity(ham):
@@ -87,6 +88,7 @@ def symmetric_forms(draw):
     return hams
 
 
+@pytest.mark.slow
 @FILE_SETTINGS
 @given(symmetric_forms())
 def test_one_hamiltonian_has_one_fingerprint_in_every_container_notation_and_storage(hams):
@@ -118,6 +120,7 @@ def test_complex_chemist_and_physicist_arrays_of_one_hamiltonian_share_a_fingerp
     assert fingerprint(other) == fingerprint(base)
 
 
+@pytest.mark.slow
 @FILE_SETTINGS
 @given(hamiltonians(sizes=(2, 3, 4)), st.integers(1, 4096))
 def test_a_file_fingerprinted_slab_by_slab_from_disk_gives_the_in_memory_value(ham, slab_bytes):
@@ -191,6 +194,7 @@ def test_spin_layout_is_part_of_the_fingerprint_of_a_spin_orbital_file(rng):
     assert fingerprint(interleaved) != fingerprint(blocked)
 
 
+@pytest.mark.slow
 @FILE_SETTINGS
 @given(hamiltonians(), st.data())
 def test_one_ulp_in_any_stored_element_changes_the_fingerprint(ham, data):
@@ -221,6 +225,7 @@ def test_one_ulp_in_any_stored_element_changes_the_fingerprint(ham, data):
     assert fingerprint(changed) != fingerprint(ham)
 
 
+@pytest.mark.slow
 @FILE_SETTINGS
 @given(hamiltonians(), st.data())
 def test_title_references_provenance_and_annotations_are_not_in_the_fingerprint(ham, data):

@@ -41,6 +41,7 @@ def _pyscf_on_one_thread(one_openmp_thread):
     return one_openmp_thread
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize(("name", "geometry", "two_s", "active", "detected", "group"), KINDS, ids=[k[0] for k in KINDS])
 def test_every_kind_of_point_group_builds_with_the_irreps_of_its_abelian_subgroup(
     name, geometry, two_s, active, detected, group

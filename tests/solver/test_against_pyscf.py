@@ -52,6 +52,7 @@ def test_random_restricted_hamiltonians_agree_with_pyscf(seed, n, n_alpha, n_bet
     assert np.allclose(native.energies, reference, atol=TOL, rtol=0)
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("seed", range(2))
 @pytest.mark.parametrize(("n", "n_alpha", "n_beta"), SECTORS[:8])
 def test_random_unrestricted_hamiltonians_agree_with_pyscf(seed, n, n_alpha, n_beta):
@@ -80,6 +81,7 @@ def _molecule(atom, basis, charge=0, spin=0, unrestricted=False):
 WATER = "O 0 0 0; H 0 0.757 0.587; H 0 -0.757 0.587"
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize(
     ("atom", "basis", "nelec"),
     [
@@ -100,6 +102,7 @@ def test_molecules_built_with_pyscf_agree_with_pyscf(atom, basis, nelec):
     assert np.allclose(native.energies, reference, atol=TOL, rtol=0)
 
 
+@pytest.mark.slow
 def test_unrestricted_molecular_integrals_agree_with_pyscf():
     mol, h1, eri = _molecule("O 0 0 0; H 0 0 0.97", "sto-3g", spin=1, unrestricted=True)
     n = h1.shape[1]
@@ -109,6 +112,7 @@ def test_unrestricted_molecular_integrals_agree_with_pyscf():
         assert np.allclose(native.energies, reference, atol=TOL, rtol=0)
 
 
+@pytest.mark.slow
 def test_the_pyscf_engine_matches_the_native_engine_on_water():
     mol, h, eri = _molecule(WATER, "sto-3g")
     kwargs = dict(n_alpha=5, n_beta=5, nroots=3, two_s=0)

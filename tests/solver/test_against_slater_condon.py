@@ -35,6 +35,7 @@ def _four_fold_real(n, rng):
     return h + h.T, 0.25 * g
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize(("n", "n_alpha", "n_beta"), [(2, 1, 1), (4, 2, 2), (5, 3, 1), (5, 0, 3), (6, 3, 3), (6, 4, 2)])
 def test_restricted_real_roots_match_the_dense_reference(n, n_alpha, n_beta):
     h, eri = random_restricted(n, np.random.default_rng(n * 10 + n_alpha))
@@ -52,6 +53,7 @@ def test_real_integrals_without_pair_symmetry_use_the_unpacked_path(seed):
     _agree(native, dense, 2)
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize(("n", "n_alpha", "n_beta"), [(4, 2, 2), (5, 2, 3), (6, 3, 3)])
 def test_restricted_complex_roots_match_the_dense_reference(n, n_alpha, n_beta):
     rng = np.random.default_rng(100 + n)
@@ -61,6 +63,7 @@ def test_restricted_complex_roots_match_the_dense_reference(n, n_alpha, n_beta):
     _agree(native, dense, 3)
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("complex_values", [False, True])
 @pytest.mark.parametrize(("n", "n_alpha", "n_beta"), [(4, 2, 1), (5, 3, 3), (6, 2, 4)])
 def test_unrestricted_roots_match_the_dense_reference(n, n_alpha, n_beta, complex_values):

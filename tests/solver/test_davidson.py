@@ -20,6 +20,7 @@ def _hermitian(n: int, seed: int, complex_values: bool) -> np.ndarray:
     return 0.02 * (a + a.conj().T) + np.diag(np.linspace(-2.0, 5.0, n))
 
 
+@pytest.mark.slow
 @settings(max_examples=20, deadline=None)
 @given(st.integers(0, 10**6), st.booleans(), st.integers(1, 4))
 def test_lowest_roots_match_dense_diagonalisation(seed, complex_values, nroots):

@@ -22,6 +22,7 @@ from integrity.testing.arrays import (
 TOL = 1e-9
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("layout", ["blocked", "interleaved"])
 @pytest.mark.parametrize(
     ("n_alpha", "n_beta", "nroots"), [(3, 3, 3), (3, 2, 3), (2, 4, 3), (0, 3, 3), (5, 4, 2), (5, 5, 1)]
@@ -53,6 +54,7 @@ def test_unrestricted_and_spin_orbital_forms_give_the_same_energies():
     assert any("as unrestricted" in note for note in mapped.notes)
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("layout", ["blocked", "interleaved"])
 def test_n_minus_one_and_n_plus_one_sectors_of_spin_orbital_input_agree_with_pyscf(layout):
     h, eri = random_restricted(6, np.random.default_rng(13))
@@ -75,6 +77,7 @@ def test_lowest_sz_sector_is_chosen_when_only_the_electron_count_is_given():
     assert abs(result.roots[0].energy - direct.roots[0].energy) < TOL
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("seed", [0, 1, 2])
 def test_a_unitary_orbital_rotation_leaves_the_spectrum_unchanged(seed):
     rng = np.random.default_rng(seed)

@@ -114,6 +114,7 @@ def _unblocked_lowest(arrays, n_alpha, n_beta, irreps, irrep, nroots=1):
     return result.energies
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("irrep", range(4))
 @pytest.mark.parametrize("kind", ["restricted", "unrestricted"])
 def test_blocked_energies_equal_the_unblocked_solver_on_random_symmetric_hamiltonians(kind, irrep):
@@ -141,6 +142,7 @@ FIXTURES_WITH_IRREPS = [
 ]
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("path", FIXTURES_WITH_IRREPS, ids=lambda p: p.name)
 def test_every_fixture_with_irreps_gives_the_unblocked_energy_in_each_irrep(path):
     ham = load(path)

@@ -49,6 +49,7 @@ def test_the_estimate_counts_only_the_blocks_of_the_target_irrep():
     assert blocked.total < whole.total / 2
 
 
+@pytest.mark.slow
 def test_the_estimate_bounds_what_a_solve_actually_allocates():
     import tracemalloc
 

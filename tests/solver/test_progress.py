@@ -7,6 +7,7 @@ import itertools
 import json
 
 import numpy as np
+import pytest
 from click.testing import CliRunner
 from locations import GOOD
 
@@ -47,6 +48,7 @@ def test_an_iteration_limit_leaves_the_roots_unconverged_and_says_so():
     assert f"{result.roots[0].residual_norm:.2e}" in note and "after 1 iterations" in note
 
 
+@pytest.mark.slow
 def test_energy_fci_warns_with_the_figures_when_the_solve_does_not_converge():
     report = check(HUBBARD, only=("energy.fci",), max_iterations=1)
     (result,) = report.results
@@ -80,6 +82,7 @@ def test_the_solve_command_takes_the_solver_options_and_prints_no_progress_off_a
     assert "(not converged)" in text.stdout
 
 
+@pytest.mark.slow
 def test_check_passes_the_solver_options_to_energy_fci():
     result = CliRunner().invoke(main, ["check", str(HUBBARD), "--only", "energy.fci", "--max-iterations", "1"])
     assert result.exit_code == 0

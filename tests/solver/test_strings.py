@@ -128,6 +128,7 @@ def test_excitation_table_entries_are_the_operator_matrix_elements(space, packed
     assert len(seen) == count
 
 
+@pytest.mark.slow
 @settings(deadline=None)
 @given(spaces)
 def test_ladder_tables_agree_with_single_operators(space):

@@ -20,6 +20,7 @@ from integrity.testing.arrays import (
 TOL = 1e-9
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("engine", ["native", "pyscf"])
 def test_a_singlet_target_skips_the_lower_triplet_of_a_hund_pair(engine):
     # Levels derived by hand (see test_models): triplet v - k = 0.45 lies lowest at S_z = 0;
@@ -51,6 +52,7 @@ def oxygen():
     return _oxygen_cas()
 
 
+@pytest.mark.slow
 def test_oxygen_lowest_sz0_state_is_the_triplet_and_the_singlet_target_finds_delta_g(oxygen):
     h1, eri, ecore, _ = oxygen
     lowest = solve_arrays("restricted", h1, eri, ecore, n_alpha=4, n_beta=4)
@@ -74,6 +76,7 @@ def test_reported_spins_are_exact_multiplets_for_every_root(oxygen):
         assert abs(root.s_squared - s * (s + 1)) < 1e-8
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("two_s", [0, 2, 4])
 def test_spin_targets_on_random_hamiltonians_match_selection_from_full_diagonalisation(two_s):
     h, eri = random_restricted(5, np.random.default_rng(31 + two_s))
@@ -85,6 +88,7 @@ def test_spin_targets_on_random_hamiltonians_match_selection_from_full_diagonali
     assert [r.two_s for r in native.roots] == [two_s, two_s]
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("layout", ["blocked", "interleaved"])
 def test_spin_targets_work_for_spin_orbital_input_without_the_flip_symmetry(layout):
     h, eri = random_restricted(4, np.random.default_rng(8))
@@ -122,6 +126,7 @@ def _symmetric_random(n, irreps, seed):
     return restrict_to_irreps(*random_restricted(n, np.random.default_rng(seed)), irreps)
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("irrep", [0, 1, 2, 3])
 def test_irrep_targets_match_selection_by_irrep_from_full_diagonalisation(irrep):
     irreps = [0, 1, 2, 3, 0, 1]
@@ -146,6 +151,7 @@ def test_irreps_without_a_target_label_each_root():
     assert [r.irrep for r in native.roots] == dense.irreps[:4].tolist()
 
 
+@pytest.mark.slow
 def test_irrep_and_spin_targets_combine(oxygen):
     h1, eri, ecore, orbsym = oxygen
     dense = slater_condon_solve("restricted", h1, eri, ecore, n_alpha=4, n_beta=4, irreps=orbsym)
@@ -174,6 +180,7 @@ def test_spin_orbital_and_unrestricted_irrep_targets_match_the_restricted_ones()
         assert np.allclose(un.energies, want, atol=TOL)
 
 
+@pytest.mark.slow
 def test_water_irreps_from_pyscf_match_pyscf_symmetry_adapted_fci():
     mol = gto.M(atom="O 0 0 0; H 0 0.757 0.587; H 0 -0.757 0.587", basis="sto-3g", symmetry=True, verbose=0)
     mf = scf.RHF(mol).run()

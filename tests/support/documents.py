@@ -20,6 +20,8 @@ SEARCHED = (
     *("docs", "integrity", "tests", "bench", "fixtures", "schemas"),
 )
 SKIPPED_FOLDERS = {"__pycache__", ".pytest_cache", ".hypothesis", ".ruff_cache"}
+#: what the benchmarks write (ignored by git; thousands of generated files on a working machine)
+BENCH_OUTPUT = REPOSITORY / "bench" / "out"
 
 
 def read(path: Path) -> str:
@@ -116,7 +118,11 @@ def text_files() -> list[Path]:
         if path.is_file():
             files.append(path)
         elif path.is_dir():
-            files += [p for p in sorted(path.rglob("*")) if p.is_file() and not SKIPPED_FOLDERS & set(p.parts)]
+            files += [
+                p
+                for p in sorted(path.rglob("*"))
+                if p.is_file() and not SKIPPED_FOLDERS & set(p.parts) and BENCH_OUTPUT not in p.parents
+            ]
     return files
 
 

@@ -63,6 +63,7 @@ def test_noninteracting_hubbard_ring_fills_the_lowest_band_levels(sites, n_alpha
     assert abs(result.roots[0].energy - _band_energy(sites, 1.0, n_alpha, n_beta)) < 1e-9
 
 
+@pytest.mark.slow
 def test_h2_sto3g_at_1_4_bohr_reproduces_the_szabo_ostlund_full_ci_energy():
     # Source: Szabo and Ostlund, Modern Quantum Chemistry (1989), chapter 4, H2/STO-3G at
     # R = 1.4 bohr: E(FCI) = -1.1373 hartree, correlation energy -0.0206 hartree (from memory).

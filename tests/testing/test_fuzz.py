@@ -135,6 +135,7 @@ def test_a_plan_is_the_same_from_the_same_seed_and_starts_with_the_good_files():
     assert len({c.mutation for c in first}) > 10
 
 
+@pytest.mark.slow
 def test_a_child_that_hangs_is_killed_and_counted(tmp_path, monkeypatch):
     import integrity.testing.fuzz as fuzz
 
