@@ -28,6 +28,8 @@ from click.testing import CliRunner
 import integrity
 from integrity.cli import main
 
+pytestmark = pytest.mark.slow  # builds water with pyscf and converts it three times: a few seconds
+
 #: Source: T. D. Crawford, programming projects (public), project #3, water STO-3G input, bohr
 #: (from memory)
 WATER_BOHR = """3
