@@ -20,6 +20,11 @@ HALF = (3, 3)
 AGREEMENT = 1e-9  # energy units of t: the solves' accuracy (pyscf converged to 1e-12)
 
 
+@pytest.fixture(scope="module", autouse=True)
+def _pyscf_on_one_thread(one_openmp_thread):
+    return one_openmp_thread
+
+
 @pytest.fixture(scope="module")
 def ring():
     return hubbard(SITES, t=HOPPING, u=ONSITE, periodic=True)

@@ -24,6 +24,12 @@ from integrity.producers import build
 INVARIANCE = 1e-9  # hartree: the figure; the two solves are each accurate to ~1e-12 here
 ROOTS = 3
 
+
+@pytest.fixture(scope="module", autouse=True)
+def _pyscf_on_one_thread(one_openmp_thread):
+    return one_openmp_thread
+
+
 MOLECULES = {
     # name: (geometry in angstrom, basis set, 2S, charge)
     "OH doublet sto-3g": ("O 0 0 0\nH 0 0 0.9697", "sto-3g", 1, 0),

@@ -39,6 +39,11 @@ SPIN_AGREEMENT = 1e-8  # <S^2>, dimensionless: both sides exact to rounding for 
 ENERGY_AGREEMENT = 1e-9  # hartree: the solves' energy accuracy
 
 
+@pytest.fixture(scope="module", autouse=True)
+def _pyscf_on_one_thread(one_openmp_thread):
+    return one_openmp_thread
+
+
 def native_states(h1, eri, n, n_alpha, n_beta, nroots, *, irreps=None, irrep=None):
     """Our lowest ``nroots`` states: (States, each vector as the (na, nb) matrix pyscf takes)."""
     problem = two_string_problem("restricted", h1, eri, n_alpha, n_beta, irreps=irreps, irrep=irrep, nroots=nroots)
