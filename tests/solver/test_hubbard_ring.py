@@ -62,6 +62,7 @@ def test_the_ground_singlet_is_pyscfs(ring):
     assert ours.two_s == 0 and abs(lowest.energy - ours.energy) <= AGREEMENT  # the singlet is the ground state
 
 
+@pytest.mark.slow
 def test_the_lowest_triplet_is_pyscfs_in_both_sectors(ring):
     h1, eri = ring
     in_ms0 = solve_arrays("restricted", h1, eri, n_alpha=3, n_beta=3, two_s=2).roots[0]

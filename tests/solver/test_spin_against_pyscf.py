@@ -67,6 +67,7 @@ def test_our_string_order_is_pyscfs(n, k):
 SECTORS = [(6, 3, 3), (6, 2, 2), (5, 3, 2), (4, 3, 1)]  # each has roots of two spins among its lowest 8
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize(("n", "n_alpha", "n_beta"), SECTORS)
 def test_the_spin_of_every_root_is_pyscfs_spin_of_our_vector(n, n_alpha, n_beta):
     ham = random_hamiltonian("restricted", n, seed=3, alpha=n_alpha, beta=n_beta)
