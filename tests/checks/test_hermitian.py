@@ -27,7 +27,7 @@ CHECK = "one_electron.hermitian"
 ALTERED = DAMAGED / "lih_one_electron_altered.h5"
 UNCONJUGATED = DAMAGED / "lih_complex_unconjugated_triangle.json"
 #: (file, the element the check must name) for each fixture
-CASES = [(ALTERED, [2, 5]), (UNCONJUGATED, [0, 2])]
+CASES = [pytest.param(path, index, id=path.stem) for path, index in [(ALTERED, [2, 5]), (UNCONJUGATED, [0, 2])]]
 
 
 def _result(report, check_id=CHECK):
@@ -39,7 +39,7 @@ def _repaired(ham, h):
     return fixed.replace(checksum=fingerprint(fixed))
 
 
-@pytest.mark.parametrize(("path", "index"), CASES, ids=lambda c: getattr(c, "name", ""))
+@pytest.mark.parametrize(("path", "index"), CASES)
 def test_the_check_fails_and_where_names_the_element_through_the_api(path, index):
     report = check(path)
     assert report.status == "fail"
@@ -52,7 +52,7 @@ def test_the_check_fails_and_where_names_the_element_through_the_api(path, index
     assert result.value > result.limit == 1e-10
 
 
-@pytest.mark.parametrize(("path", "index"), CASES, ids=lambda c: getattr(c, "name", ""))
+@pytest.mark.parametrize(("path", "index"), CASES)
 def test_the_json_report_of_the_check_command_names_the_element(runner, path, index):
     result = runner.invoke(main, ["check", str(path), "--format", "json", "--no-policy", "--jobs", "1"])
     assert result.exit_code == 1, result.output
