@@ -93,7 +93,9 @@ def check_hermitian(ham, ctx) -> Result:
             worst, where = peak, at_element("one_electron", (p, q), label)
     if worst > ctx.limit:
         cause = (
-            "the matrix may be stored transposed with complex values"
+            # h^T of a Hermitian h is Hermitian too: a transposed matrix is not what breaks this
+            "a triangle may have been filled from the other without conjugation (complex values "
+            "mirrored as if real), or an element was altered"
             if ham.is_complex
             else ("an element was altered, or the matrix is not the one-electron Hamiltonian")
         )
