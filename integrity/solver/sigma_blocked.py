@@ -35,7 +35,7 @@ unit so that its buffers stay in the shared cache.
 The beta gather and the alpha gather of a unit have two interchangeable
 paths: numpy (``take`` into a ``(rows, nent, width)`` array and a matmul with
 the signs) and compiled loops (:mod:`sigma_kernels`, numba when installed;
-``INTEGRITY_SIGMA_KERNEL=numpy`` forces the numpy path). Both compute the
+``INTEGRITY_SIGMA_KERNEL=numpy`` forces the numpy path, small vectors take it). Both compute the
 same sums over the same ``G``; the products with the pair blocks are numpy
 ``matmul`` on both.
 """
@@ -296,7 +296,7 @@ def build_blocked(
     :func:`sigma_kernels.use_compiled`.
     """
     if compiled is None:
-        compiled = use_compiled()
+        compiled = use_compiled(layout.size)
     n = h_alpha.shape[0]
     n_alpha, n_beta = layout.n_alpha, layout.n_beta
     dtype = np.dtype(np.result_type(h_alpha, h_beta, eri_aa, eri_ab, eri_bb, np.float64))

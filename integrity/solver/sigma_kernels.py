@@ -23,11 +23,15 @@ of threads), ``cache`` keeps the machine code on disk for later processes.
 
 numba is optional (the ``fast`` extra). ``INTEGRITY_SIGMA_KERNEL`` selects the
 path: ``numpy`` forces the numpy path, ``numba`` requires the compiled one,
-unset (or ``auto``) takes the compiled path when numba can be imported.
+unset (or ``auto``) takes the compiled path when numba can be imported and
+the vector has at least ``COMPILED_FROM`` determinants: a process pays about
+0.2 s to import numba and 0.2-0.4 s to load the loops from the cache (about
+1 s to compile them the first time), and some 100 MiB of memory, which a
+small solve does not win back.
 
 >>> import numpy as np
 >>> out = np.zeros((1, 2, 3))
->>> gather_rows(np.arange(6.0).reshape(2, 3), np.array([[1, 0]]), np.array([[[2.0], [-1.0]]]), 0, 2, False, out)
+>>> gather_rows(np.arange(6.0).reshape(2, 3), np.array([[1, 0]]), np.array([[[2.0], [-1.0]]]), 0, 1, False, out)
 >>> out.tolist()
 [[[6.0, 8.0, 10.0], [-0.0, -1.0, -2.0]]]
 """
@@ -39,24 +43,40 @@ import os
 import threading
 from types import SimpleNamespace
 
-__all__ = ["ENVIRONMENT", "compiled_kernels", "gather_rows", "scatter_alpha", "use_compiled"]
+__all__ = [
+    "COMPILED_BYTES",
+    "COMPILED_FROM",
+    "ENVIRONMENT",
+    "compiled_kernels",
+    "gather_rows",
+    "scatter_alpha",
+    "use_compiled",
+]
 
 ENVIRONMENT = "INTEGRITY_SIGMA_KERNEL"
 """Environment variable choosing the alpha-beta path: ``numpy``, ``numba`` or ``auto`` (the default)."""
+
+COMPILED_FROM = 500_000
+"""Determinants from which ``auto`` takes the compiled path (N2 CAS(14,14) in Ag has 1.47 million)."""
+
+COMPILED_BYTES = 128 * 2**20
+"""Memory of numba and the loaded loops in a process (measured: 100-120 MiB), counted in the estimate."""
 
 _CHOICES = ("auto", "numpy", "numba")
 _lock = threading.Lock()
 _compiled: SimpleNamespace | None = None
 
 
-def use_compiled() -> bool:
-    """Whether sigma should take the compiled path, from ``INTEGRITY_SIGMA_KERNEL`` and numba's presence.
+def use_compiled(determinants: int) -> bool:
+    """Whether sigma over so many determinants takes the compiled path (``INTEGRITY_SIGMA_KERNEL``, numba).
 
     >>> import os
     >>> os.environ[ENVIRONMENT] = "numpy"
-    >>> use_compiled()
+    >>> use_compiled(10**8)
     False
     >>> del os.environ[ENVIRONMENT]
+    >>> use_compiled(10)
+    False
     """
     setting = os.environ.get(ENVIRONMENT, "").strip().lower() or "auto"
     if setting not in _CHOICES:
@@ -66,7 +86,7 @@ def use_compiled() -> bool:
     available = importlib.util.find_spec("numba") is not None
     if setting == "numba" and not available:
         raise ValueError(f"{ENVIRONMENT}=numba but numba is not installed (pip install 'integrity[fast]')")
-    return available
+    return available and (setting == "numba" or determinants >= COMPILED_FROM)
 
 
 def compiled_kernels() -> SimpleNamespace:

@@ -17,14 +17,16 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from integrity.solver import sigma_blocked as sigma_blocked_module
-from integrity.solver import sigma_kernels
+from integrity.solver import sigma_kernels, solve_arrays
 from integrity.solver.irrep_blocks import block_layout
+from integrity.solver.memory import two_string_memory
 from integrity.solver.point_group import string_irreps
 from integrity.solver.sigma_blocked import build_blocked, sigma_blocked
 from integrity.solver.strings import strings
 from integrity.testing.arrays import random_restricted, random_unitary, random_unrestricted, rotate_orbitals
 
 RELATIVE = 1e-12
+N2_IRREPS = [0, 5, 0, 5, 0, 6, 7, 2, 3, 5, 0, 6, 7, 0]  # orbital irreps of a D2h CAS(14,14), for the estimate
 INTERPRETED = sigma_kernels.SimpleNamespace(
     gather_rows=sigma_kernels.gather_rows, scatter_alpha=sigma_kernels.scatter_alpha
 )
@@ -126,7 +128,7 @@ def test_the_compiled_loops_give_the_numpy_sigma_in_narrow_units(scratch, monkey
 
 def test_the_numpy_path_can_be_forced(monkeypatch):
     monkeypatch.setenv(sigma_kernels.ENVIRONMENT, "numpy")
-    assert not sigma_kernels.use_compiled()
+    assert not sigma_kernels.use_compiled(10**9)
     h, g = random_restricted(4, np.random.default_rng(0))
     op = build_blocked(h, h, g, g, g, block_layout(4, 2, 2, [0, 1, 0, 1], 0))
     assert not op.compiled
@@ -136,7 +138,7 @@ def test_the_numpy_path_can_be_forced(monkeypatch):
 def test_an_unknown_kernel_setting_is_refused(monkeypatch):
     monkeypatch.setenv(sigma_kernels.ENVIRONMENT, "fortran")
     with pytest.raises(ValueError, match=sigma_kernels.ENVIRONMENT):
-        sigma_kernels.use_compiled()
+        sigma_kernels.use_compiled(10)
 
 
 def test_without_numba_the_numpy_path_is_taken_and_numba_cannot_be_required(monkeypatch):
@@ -145,17 +147,34 @@ def test_without_numba_the_numpy_path_is_taken_and_numba_cannot_be_required(monk
         sigma_kernels.importlib.util, "find_spec", lambda name, *rest: None if name == "numba" else real(name, *rest)
     )
     monkeypatch.delenv(sigma_kernels.ENVIRONMENT, raising=False)
-    assert not sigma_kernels.use_compiled()
+    assert not sigma_kernels.use_compiled(10**9)
     monkeypatch.setenv(sigma_kernels.ENVIRONMENT, "numba")
     with pytest.raises(ValueError, match="not installed"):
-        sigma_kernels.use_compiled()
+        sigma_kernels.use_compiled(10)
 
 
-def test_with_numba_the_compiled_path_is_the_default(monkeypatch):
+def test_with_numba_large_vectors_take_the_compiled_path(monkeypatch):
     pytest.importorskip("numba")
     monkeypatch.delenv(sigma_kernels.ENVIRONMENT, raising=False)
-    assert sigma_kernels.use_compiled()
+    assert sigma_kernels.use_compiled(sigma_kernels.COMPILED_FROM)
+    assert not sigma_kernels.use_compiled(sigma_kernels.COMPILED_FROM - 1)
+    assert two_string_memory(14, 7, 7, layout=block_layout(14, 7, 7, N2_IRREPS, 0)).parts["compiled loops"] > 0
+    monkeypatch.setenv(sigma_kernels.ENVIRONMENT, "numba")  # small ones when asked
     h, g = random_restricted(4, np.random.default_rng(1))
     op = build_blocked(h, h, g, g, g, block_layout(4, 2, 2, [0, 1, 0, 1], 0))
     assert op.compiled
     assert all(target.terms is not None and not target.offsets for target in op.targets)
+
+
+@pytest.mark.parametrize("kind", ["restricted", "unrestricted"])
+def test_a_solve_on_the_compiled_path_gives_the_numpy_energies(kind, monkeypatch):
+    pytest.importorskip("numba")
+    rng = np.random.default_rng(7)
+    h, g = (random_restricted if kind == "restricted" else random_unrestricted)(7, rng, spread=2.0)
+    irreps = [0, 1, 2, 3, 0, 1, 3]
+    energies = {}
+    for kernel in ("numpy", "numba"):
+        monkeypatch.setenv(sigma_kernels.ENVIRONMENT, kernel)
+        result = solve_arrays(kind, h, g, n_alpha=3, n_beta=3, irreps=irreps, irrep=1, nroots=2, tol=1e-10)
+        energies[kernel] = result.energies
+    assert np.allclose(energies["numba"], energies["numpy"], atol=1e-9, rtol=0)
