@@ -34,8 +34,9 @@ unit so that its buffers stay in the shared cache.
 
 The beta gather and the alpha gather of a unit have two interchangeable
 paths: numpy (``take`` into a ``(rows, nent, width)`` array and a matmul with
-the signs) and compiled loops (:mod:`sigma_kernels`, numba when installed;
-``INTEGRITY_SIGMA_KERNEL=numpy`` forces the numpy path, small vectors take it). Both compute the
+the signs) and compiled loops (:mod:`sigma_kernels`: numba when installed,
+for vectors of at least ``COMPILED_FROM`` determinants;
+``INTEGRITY_SIGMA_KERNEL=numpy`` forces the numpy path). Both compute the
 same sums over the same ``G``; the products with the pair blocks are numpy
 ``matmul`` on both.
 """
@@ -51,7 +52,7 @@ import numpy as np
 from integrity.solver.integrals import pair_symmetric
 from integrity.solver.irrep_blocks import IRREPS, BlockLayout
 from integrity.solver.parallel import run_units, workers
-from integrity.solver.sigma_kernels import compiled_kernels, use_compiled
+from integrity.solver.sigma_kernels import compiled_kernels, use_compiled, warm_up
 from integrity.solver.string_hamiltonian import string_hamiltonian
 from integrity.solver.strings import occupation_matrix, strings
 from integrity.solver.tables import excitation_table
@@ -274,7 +275,14 @@ def _targets(layout, table, pair_irreps, pair_local, npair_by_irrep, gathers, it
 
 
 def _string_blocks(h, eri, n, k, groups, irreps_needed):
-    return {g: string_hamiltonian(h, eri, n, k, members=groups.members(g)) for g in irreps_needed}
+    """The string Hamiltonian of each irrep, built on the worker threads (one irrep per unit)."""
+    blocks = {}
+
+    def build(g):
+        blocks[g] = string_hamiltonian(h, eri, n, k, members=groups.members(g))
+
+    run_units(build, irreps_needed)
+    return {g: blocks[g] for g in irreps_needed}
 
 
 def _diagonal_of(matrices: dict, groups) -> np.ndarray:
@@ -300,6 +308,8 @@ def build_blocked(
     n = h_alpha.shape[0]
     n_alpha, n_beta = layout.n_alpha, layout.n_beta
     dtype = np.dtype(np.result_type(h_alpha, h_beta, eri_aa, eri_ab, eri_bb, np.float64))
+    if compiled:
+        warm_up(dtype)  # numba's start-up on a background thread, while the tables are built
     packed = dtype == np.float64 and pair_symmetric(eri_ab)
     labels = layout.orbital_irreps
     p, q, pair_irreps, pair_local = _pairs(n, packed, labels)

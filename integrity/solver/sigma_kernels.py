@@ -43,6 +43,8 @@ import os
 import threading
 from types import SimpleNamespace
 
+import numpy as np
+
 __all__ = [
     "COMPILED_BYTES",
     "COMPILED_FROM",
@@ -51,6 +53,7 @@ __all__ = [
     "gather_rows",
     "scatter_alpha",
     "use_compiled",
+    "warm_up",
 ]
 
 ENVIRONMENT = "INTEGRITY_SIGMA_KERNEL"
@@ -96,9 +99,38 @@ def compiled_kernels() -> SimpleNamespace:
         if _compiled is None:
             from numba import njit
 
-            jit = njit(cache=True, nogil=True)
-            _compiled = SimpleNamespace(gather_rows=jit(gather_rows), scatter_alpha=jit(scatter_alpha))
+            try:
+                jit = njit(cache=True, nogil=True)
+                _compiled = SimpleNamespace(gather_rows=jit(gather_rows), scatter_alpha=jit(scatter_alpha))
+            except RuntimeError:  # numba finds no writable cache directory: compile in every process
+                jit = njit(nogil=True)
+                _compiled = SimpleNamespace(gather_rows=jit(gather_rows), scatter_alpha=jit(scatter_alpha))
         return _compiled
+
+
+def warm_up(dtype) -> threading.Thread:
+    """Import numba and load (or compile) the loops for ``dtype`` on a background thread.
+
+    :func:`sigma_blocked.build_blocked` starts it before building its tables,
+    so that numba's start-up overlaps the build. The arguments have the types
+    of the real calls, so the first sigma finds its machine code ready; any
+    failure is left for that first sigma to raise.
+    """
+
+    def run():
+        try:
+            kernels = compiled_kernels()
+            index = np.zeros(1, dtype=np.int64)
+            row, sign, out = index.reshape(1, 1), np.zeros((1, 1, 1)), np.zeros((1, 1, 1), dtype)
+            kernels.gather_rows(np.zeros((1, 1), dtype), row, sign, 0, 1, True, out)
+            one = np.zeros((1, 1), dtype)
+            kernels.scatter_alpha(np.zeros(1, dtype), index, np.zeros(1), index, index, index, 1, one, one.copy(), 0)
+        except Exception:  # the first sigma makes the same calls and raises
+            pass
+
+    thread = threading.Thread(target=run, name="integrity-kernels", daemon=True)
+    thread.start()
+    return thread
 
 
 def gather_rows(source, row, sign, start, stop, by_column, out):

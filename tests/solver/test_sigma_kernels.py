@@ -178,3 +178,21 @@ def test_a_solve_on_the_compiled_path_gives_the_numpy_energies(kind, monkeypatch
         result = solve_arrays(kind, h, g, n_alpha=3, n_beta=3, irreps=irreps, irrep=1, nroots=2, tol=1e-10)
         energies[kernel] = result.energies
     assert np.allclose(energies["numba"], energies["numpy"], atol=1e-9, rtol=0)
+
+
+@pytest.mark.parametrize("kind", ["restricted", "complex"])
+def test_the_warm_up_compiles_the_signatures_sigma_uses(kind):
+    # Otherwise the first sigma would compile again and the warm-up would hide nothing.
+    pytest.importorskip("numba")
+    rng = np.random.default_rng(3)
+    arrays = _arrays(kind, 6, rng)
+    layout = block_layout(6, 3, 3, [0, 1, 2, 3, 0, 1], 0)
+    dtype = np.result_type(*arrays, np.float64)
+    sigma_kernels.warm_up(dtype).join()
+    kernels = sigma_kernels.compiled_kernels()
+    before = {name: set(getattr(kernels, name).signatures) for name in ("gather_rows", "scatter_alpha")}
+    c = rng.standard_normal(layout.size).astype(dtype)
+    for compress_all in (False, True):
+        _both_paths(arrays, layout, c, compress_all)
+    after = {name: set(getattr(kernels, name).signatures) for name in ("gather_rows", "scatter_alpha")}
+    assert after == before
