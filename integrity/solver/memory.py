@@ -3,9 +3,8 @@
 A solve holds: the Davidson basis and its images (``2 * max_space`` vectors),
 Ritz vectors, images, residuals and corrections (``4 * nroots + 2``), the
 full-size work arrays of one sigma, the excitation tables, the string
-Hamiltonians and the per-block scratch of the alpha-beta contraction, and
-on the compiled path of :mod:`sigma_kernels` numba itself. The figures are
-upper estimates of what numpy allocates, not measurements.
+Hamiltonians and the per-block scratch of the alpha-beta contraction. The
+figures are upper estimates of what numpy allocates, not measurements.
 
 >>> estimate_memory("restricted", 2, n_alpha=1, n_beta=1) > 0
 True
@@ -24,7 +23,6 @@ from integrity.solver.davidson import default_max_space
 from integrity.solver.irrep_blocks import BlockLayout, block_layout
 from integrity.solver.parallel import workers
 from integrity.solver.sigma_blocked import SCRATCH_BYTES, unit_scratch_bytes
-from integrity.solver.sigma_kernels import COMPILED_BYTES, use_compiled
 from integrity.solver.string_hamiltonian import string_hamiltonian_bytes
 
 __all__ = [
@@ -126,7 +124,6 @@ def two_string_memory(
     gathers = 24 * nent_b * sum(cols.values())
     alpha_side = 32 * nent_a * sum(rows.values())
     offsets, scratch = 0, 0
-    compiled = bool(nent_a and nent_b) and use_compiled(ndet)
     if nent_a and nent_b:
         pair_counts = _pair_counts(layout.orbital_irreps, packed)
         for block in layout.blocks:
@@ -135,8 +132,7 @@ def two_string_memory(
             largest = max(p * r for p, r in sizes)
             per_width = unit_scratch_bytes(block.rows, nent_a, total, largest, 1, itemsize)
             width = max(1, min(block.cols, SCRATCH_BYTES // max(1, per_width)))
-            # numpy path: offsets for the two unit widths; compiled path: the sorted terms (5 arrays)
-            offsets += 8 * block.rows * nent_a * (5 if compiled else width + block.cols % width)
+            offsets += 8 * block.rows * nent_a * (width + block.cols % width)
             scratch = max(scratch, per_width * width)
     same = n_alpha == n_beta and set(rows) >= set(cols)
     alpha_held, alpha_build = _string_matrix_bytes(rows.values(), nent_a, itemsize)
@@ -150,8 +146,6 @@ def two_string_memory(
         "block scratch": workers() * scratch,
         "build scratch": max(alpha_build, beta_build),
     }
-    if compiled:
-        parts["compiled loops"] = COMPILED_BYTES
     return MemoryEstimate(_total(parts), parts, 0, ndet)
 
 

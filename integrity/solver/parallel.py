@@ -4,9 +4,7 @@ Sigma is cut into independent work units (column or row ranges of one
 block) that write disjoint parts of the result. The units are handed out to
 ``workers()`` threads one at a time, so a thread that loses its core to
 another process simply takes fewer units. NumPy releases the GIL inside the
-gathers (``take``) and the matrix products, and so do the compiled loops of
-:mod:`sigma_kernels` (``nogil``; they start no threads of their own), so the
-threads run in parallel.
+gathers (``take``) and the matrix products, so the threads run in parallel.
 
 While the units run, BLAS is held to one thread (threadpoolctl): a threaded
 BLAS splits every product statically between its threads, which then wait

@@ -31,14 +31,6 @@ The work is cut into units (column ranges for ``H_a`` and the alpha-beta
 part, row ranges for ``H_b``) run on the worker threads of :mod:`parallel`,
 each with its own scratch; ``SCRATCH_BYTES`` sets the width of an alpha-beta
 unit so that its buffers stay in the shared cache.
-
-The beta gather and the alpha gather of a unit have two interchangeable
-paths: numpy (``take`` into a ``(rows, nent, width)`` array and a matmul with
-the signs) and compiled loops (:mod:`sigma_kernels`: numba when installed,
-for vectors of at least ``COMPILED_FROM`` determinants;
-``INTEGRITY_SIGMA_KERNEL=numpy`` forces the numpy path). Both compute the
-same sums over the same ``G``; the products with the pair blocks are numpy
-``matmul`` on both.
 """
 
 from __future__ import annotations
@@ -52,7 +44,6 @@ import numpy as np
 from integrity.solver.integrals import pair_symmetric
 from integrity.solver.irrep_blocks import IRREPS, BlockLayout
 from integrity.solver.parallel import run_units, workers
-from integrity.solver.sigma_kernels import compiled_kernels, use_compiled, warm_up
 from integrity.solver.string_hamiltonian import string_hamiltonian
 from integrity.solver.strings import occupation_matrix, strings
 from integrity.solver.tables import excitation_table
@@ -98,8 +89,7 @@ class Target:
     sign: np.ndarray  # (rows, 1, nent)
     width: int
     largest: int  # B scratch per beta string: max over Γ of K_Γ * na_s
-    offsets: dict  # width -> (rows, nent, width) offsets of <Ia|E_pq|Ja> into the flat G of a unit (numpy path)
-    terms: tuple | None  # (row, sign, base, stride, column) flat, in the order of G (compiled path)
+    offsets: dict  # width -> (rows, nent, width) offsets of <Ia|E_pq|Ja> into the flat G of a unit
 
 
 def _offsets(base, stride, column, width: int) -> np.ndarray:
@@ -120,7 +110,6 @@ class BlockedTwoString:
     targets: tuple[Target, ...]
     diagonal: np.ndarray
     nent: int
-    compiled: bool  # alpha-beta gathers by the loops of sigma_kernels (else numpy)
     scratch: threading.local = field(default_factory=threading.local, compare=False, repr=False)
 
     @property
@@ -210,14 +199,7 @@ def _beta_gather(table, groups, pair_irreps, pair_local, npair_by_irrep, alpha_s
     return gathers
 
 
-def _terms(base, stride, column, sign) -> tuple:
-    """The terms ``<Ia|E_pq|Ja>`` of a target block, flat and sorted by where they read G."""
-    order = np.lexsort((column.ravel(), base.ravel()))
-    row = np.repeat(np.arange(base.shape[0]), base.shape[1])
-    return tuple(np.ascontiguousarray(a.ravel()[order]) for a in (row, sign.astype(np.float64), base, stride, column))
-
-
-def _targets(layout, table, pair_irreps, pair_local, npair_by_irrep, gathers, itemsize, compiled):
+def _targets(layout, table, pair_irreps, pair_local, npair_by_irrep, gathers, itemsize):
     nent = table.sign.shape[1]
     sizes = np.array([layout.alpha.size(g) for g in range(IRREPS)], dtype=np.int64)
     out = []
@@ -251,7 +233,6 @@ def _targets(layout, table, pair_irreps, pair_local, npair_by_irrep, gathers, it
         stride = np.where(squeezed, npair_by_irrep[gamma] * rows_of_source, rows_of_source)
         column = np.where(squeezed, local_pair * rows_of_source, 0) + local_source
         widths = {width, block.cols % width} - {0}
-        sign = table.sign[members]
         out.append(
             Target(
                 block=index,
@@ -264,25 +245,17 @@ def _targets(layout, table, pair_irreps, pair_local, npair_by_irrep, gathers, it
                 base=base,
                 stride=stride,
                 column=column,
-                sign=sign.astype(np.float64)[:, None, :],
+                sign=table.sign[members].astype(np.float64)[:, None, :],
                 width=width,
                 largest=largest,
-                offsets={} if compiled else {w: _offsets(base, stride, column, w) for w in widths},
-                terms=_terms(base, stride, column, sign) if compiled else None,
+                offsets={w: _offsets(base, stride, column, w) for w in widths},
             )
         )
     return tuple(out)
 
 
 def _string_blocks(h, eri, n, k, groups, irreps_needed):
-    """The string Hamiltonian of each irrep, built on the worker threads (one irrep per unit)."""
-    blocks = {}
-
-    def build(g):
-        blocks[g] = string_hamiltonian(h, eri, n, k, members=groups.members(g))
-
-    run_units(build, irreps_needed)
-    return {g: blocks[g] for g in irreps_needed}
+    return {g: string_hamiltonian(h, eri, n, k, members=groups.members(g)) for g in irreps_needed}
 
 
 def _diagonal_of(matrices: dict, groups) -> np.ndarray:
@@ -293,23 +266,15 @@ def _diagonal_of(matrices: dict, groups) -> np.ndarray:
     return out
 
 
-def build_blocked(
-    h_alpha, h_beta, eri_aa, eri_ab, eri_bb, layout: BlockLayout, *, compiled: bool | None = None
-) -> BlockedTwoString:
+def build_blocked(h_alpha, h_beta, eri_aa, eri_ab, eri_bb, layout: BlockLayout) -> BlockedTwoString:
     """Precompute string-Hamiltonian blocks, gathers and pair blocks for :func:`sigma_blocked`.
 
     For restricted orbitals pass the same arrays for alpha and beta and
-    ``eri_aa = eri_ab = eri_bb = eri``. ``compiled`` picks the path of the
-    alpha-beta gathers (:mod:`sigma_kernels`); ``None`` asks
-    :func:`sigma_kernels.use_compiled`.
+    ``eri_aa = eri_ab = eri_bb = eri``.
     """
-    if compiled is None:
-        compiled = use_compiled(layout.size)
     n = h_alpha.shape[0]
     n_alpha, n_beta = layout.n_alpha, layout.n_beta
     dtype = np.dtype(np.result_type(h_alpha, h_beta, eri_aa, eri_ab, eri_bb, np.float64))
-    if compiled:
-        warm_up(dtype)  # numba's start-up on a background thread, while the tables are built
     packed = dtype == np.float64 and pair_symmetric(eri_ab)
     labels = layout.orbital_irreps
     p, q, pair_irreps, pair_local = _pairs(n, packed, labels)
@@ -350,14 +315,11 @@ def build_blocked(
         h_beta=hb,
         pair_blocks=tuple(np.ascontiguousarray(block.T) for block in _pair_blocks(eri_ab, p, q, pair_irreps, dtype)),
         beta_gather=gathers,
-        targets=_targets(
-            layout, alpha_table, pair_irreps, pair_local, npair_by_irrep, gathers, dtype.itemsize, compiled
-        )
+        targets=_targets(layout, alpha_table, pair_irreps, pair_local, npair_by_irrep, gathers, dtype.itemsize)
         if has_pairs
         else (),
         diagonal=np.concatenate(parts),
         nent=alpha_table.sign.shape[1],
-        compiled=compiled,
     )
 
 
@@ -368,7 +330,7 @@ def _buffers(op: BlockedTwoString, dtype) -> dict:
     if key not in store:
         g = max((t.width * t.total for t in op.targets), default=0)
         b = max((t.width * t.largest for t in op.targets), default=0)
-        x = max((t.width * t.rows * (1 if op.compiled else op.nent) for t in op.targets), default=0)
+        x = max((t.width * t.rows * op.nent for t in op.targets), default=0)
         store[key] = (np.empty(b, dtype=dtype), np.empty(g, dtype=dtype), np.empty(x, dtype=dtype))
     return store[key]
 
@@ -431,12 +393,11 @@ def sigma_blocked(op: BlockedTwoString, c: np.ndarray) -> np.ndarray:
     if op.targets:
         sources = _sources(op, c_views, dtype)
         units = [(t, start) for t in op.targets for start in range(0, t.cols, t.width)]
-        kernels = compiled_kernels() if op.compiled else None
-        run_units(lambda unit: _alpha_beta_unit(op, sources, out_views, dtype, kernels, *unit), units)
+        run_units(lambda unit: _alpha_beta_unit(op, sources, out_views, dtype, *unit), units)
     return out
 
 
-def _alpha_beta_unit(op, sources, out_views, dtype, kernels, target: Target, start: int) -> None:
+def _alpha_beta_unit(op, sources, out_views, dtype, target: Target, start: int) -> None:
     width = min(target.width, target.cols - start)
     stop = start + width
     b_buffer, g_buffer, x_buffer = _buffers(op, dtype)
@@ -446,11 +407,8 @@ def _alpha_beta_unit(op, sources, out_views, dtype, kernels, target: Target, sta
         region = g[width * source.prefix : width * (source.prefix + source.npair * source.rows)]
         if pair is None:  # every pair of Γ: one product for the unit
             gathered = b_buffer[: source.npair * width * source.rows].reshape(source.npair, width, source.rows)
-            if kernels is None:
-                np.take(sources[source.alpha_irrep], row[:, start:stop], axis=0, out=gathered, mode="clip")
-                gathered *= factor[:, start:stop]
-            else:
-                kernels.gather_rows(sources[source.alpha_irrep], row, factor, start, stop, True, gathered)
+            np.take(sources[source.alpha_irrep], row[:, start:stop], axis=0, out=gathered, mode="clip")
+            gathered *= factor[:, start:stop]
             np.matmul(
                 op.pair_blocks[source.gamma].T,
                 gathered.reshape(source.npair, width * source.rows),
@@ -459,18 +417,11 @@ def _alpha_beta_unit(op, sources, out_views, dtype, kernels, target: Target, sta
             continue
         excitations = row.shape[1]
         gathered = b_buffer[: width * excitations * source.rows].reshape(width, excitations, source.rows)
-        if kernels is None:
-            np.take(sources[source.alpha_irrep], row[start:stop], axis=0, out=gathered, mode="clip")
-            gathered *= factor[start:stop]
-        else:
-            kernels.gather_rows(sources[source.alpha_irrep], row, factor, start, stop, False, gathered)
+        np.take(sources[source.alpha_irrep], row[start:stop], axis=0, out=gathered, mode="clip")
+        gathered *= factor[start:stop]
         # coupling[i, pq, k] = (pq|rs_k)_ab for the K excitations rs_k of beta string i
         coupling = np.take(op.pair_blocks[source.gamma], pair[start:stop], axis=0).transpose(0, 2, 1)
         np.matmul(coupling, gathered, out=region.reshape(width, source.npair, source.rows))
-    if kernels is not None:
-        accumulator = x_buffer[: target.rows * width].reshape(target.rows, width)
-        kernels.scatter_alpha(g, *target.terms, width, accumulator, out_views[target.block], start)
-        return
     rows = x_buffer[: target.rows * op.nent * width].reshape(target.rows, op.nent, width)
     np.take(g, target.offsets[width], out=rows, mode="clip")
     out_views[target.block][:, start:stop] += np.matmul(target.sign, rows)[:, 0, :]
