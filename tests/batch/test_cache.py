@@ -140,6 +140,7 @@ def test_the_command_line_says_when_the_cache_is_bypassed(in_tmp, runner):
     assert "cache verdicts.sqlite: not a usable cache" in result.stderr
 
 
+@pytest.mark.slow
 def test_two_processes_writing_at_once_lose_nothing(tmp_path):
     path = str(tmp_path / "verdicts.sqlite")
     ResultCache(path).close()

@@ -33,6 +33,7 @@ def command(*paths, foreign="note"):
     return ["check", *map(str, paths), "--foreign", foreign, "--jobs", "1", "--no-policy"]
 
 
+@pytest.mark.slow
 def test_files_without_the_marker_are_passed_over_with_a_note(repository, runner):
     result = runner.invoke(main, command("package.json", "results.json", "table.h5", *repository))
     assert result.exit_code == 0, result.output
@@ -48,6 +49,7 @@ def test_refuse_keeps_them_unreadable(repository, runner):
     assert result.exit_code == 2 and "unreadable" in result.stdout
 
 
+@pytest.mark.slow
 def test_another_format_marker_is_named(in_tmp, runner):
     (in_tmp / "report.json").write_text(json.dumps({"format": "integrity.report", "files": []}))
     result = runner.invoke(main, command("report.json"))
@@ -55,6 +57,7 @@ def test_another_format_marker_is_named(in_tmp, runner):
     assert "its format marker is 'integrity.report'" in result.stdout
 
 
+@pytest.mark.slow
 def test_a_damaged_hamiltonian_file_still_fails(repository, runner):
     damage(repository[1])
     result = runner.invoke(main, command("package.json", *repository))
@@ -62,6 +65,7 @@ def test_a_damaged_hamiltonian_file_still_fails(repository, runner):
     assert "  two_electron.symmetry:" in result.stdout and "  checksum:" in result.stdout
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("name", ["cut.json", "cut.h5"])
 def test_a_file_that_cannot_be_parsed_fails_even_when_foreign_files_are_noted(repository, runner, name):
     source = Path(repository[0] if name.endswith(".h5") else repository[1])
@@ -83,6 +87,7 @@ def test_the_truncated_fixture_is_not_passed_over(in_tmp, runner):
     assert report["files"][0]["status"] == "unreadable" and report["passed_over"] == []
 
 
+@pytest.mark.slow
 def test_an_unparseable_file_the_policy_excludes_is_passed_over(repository, runner):
     with open("broken.json", "w") as handle:
         handle.write('{"format": "integrity.hamiltonian", "orbi')

@@ -32,6 +32,7 @@ def test_two_workers_give_the_report_of_one_fingerprints_included(runner):
     assert sum(entry["fingerprint"] is not None for entry in report["files"]) == 15
 
 
+@pytest.mark.slow
 def test_text_verdicts_come_in_input_order_from_two_workers(in_tmp, runner):
     paths = delivery(in_tmp / "scan", 12)
     damage(paths[3])

@@ -177,6 +177,7 @@ def test_check_follows_the_policy_and_says_which(in_tmp, runner):
     assert bare.exit_code == 1 and json.loads(bare.stdout)["policy"] is None and bare.stderr == ""
 
 
+@pytest.mark.slow
 def test_excluded_paths_are_passed_over_even_when_named(in_tmp, runner):
     paths = delivery(in_tmp / "scan", 3)
     damage(paths[1])
@@ -188,6 +189,7 @@ def test_excluded_paths_are_passed_over_even_when_named(in_tmp, runner):
     assert lines[0].startswith("scan/scan_000.h5: pass") and lines[2].startswith("scan/scan_002.h5: pass")
 
 
+@pytest.mark.slow
 def test_include_limits_the_files_judged(in_tmp, runner):
     delivery(in_tmp / "scan", 2)
     write(in_tmp / "results" / "table.json", "[1, 2, 3]")

@@ -52,6 +52,7 @@ def test_the_check_fails_and_where_names_the_element_through_the_api(path, index
     assert result.value > result.limit == 1e-10
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize(("path", "index"), CASES)
 def test_the_json_report_of_the_check_command_names_the_element(runner, path, index):
     result = runner.invoke(main, ["check", str(path), "--format", "json", "--no-policy", "--jobs", "1"])

@@ -110,6 +110,7 @@ def _many_schema_problems(tmp_path):
     return path
 
 
+@pytest.mark.slow
 def test_every_schema_problem_is_in_the_details_and_the_message_stays_short(runner, tmp_path):
     path = _many_schema_problems(tmp_path)
     result = _statuses(check(path))["schema"]

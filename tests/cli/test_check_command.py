@@ -37,6 +37,7 @@ def test_an_unreadable_file_exits_two(runner):
     assert "truncated" in result.output
 
 
+@pytest.mark.slow
 def test_unreadable_wins_over_failed_when_both_occur(runner):
     assert runner.invoke(main, ["check", DAMAGED, TRUNCATED]).exit_code == 2
 
@@ -48,6 +49,7 @@ def test_a_folder_is_searched_for_hamiltonian_files(runner):
     assert len(result.output.strip().splitlines()) == len(list((FIXTURES / "good").glob("*.*")))
 
 
+@pytest.mark.slow
 def test_the_json_report_validates_against_its_schema(runner):
     result = runner.invoke(main, ["check", GOOD, DAMAGED, TRUNCATED, "--format", "json"])
     assert result.exit_code == 2
@@ -58,12 +60,14 @@ def test_the_json_report_validates_against_its_schema(runner):
     assert document["summary"]["failed"] == 1 and document["summary"]["unreadable"] == 1
 
 
+@pytest.mark.slow
 def test_a_report_missing_a_required_field_does_not_validate(runner):
     document = json.loads(runner.invoke(main, ["check", GOOD, "--format", "json"]).output)
     del document["files"][0]["checks"][0]["limit"]
     assert schema_problems(document, name="report")
 
 
+@pytest.mark.slow
 def test_select_skip_and_tolerance_change_what_runs(runner):
     selected = runner.invoke(main, ["check", DAMAGED, "--only", "checksum", "--format", "json"])
     assert [c["id"] for c in json.loads(selected.output)["files"][0]["checks"]] == ["checksum"]

@@ -75,6 +75,7 @@ def test_wrap_refuses_a_non_finite_core_energy(runner, in_tmp, rng):
     assert not (in_tmp / "o.h5").exists()
 
 
+@pytest.mark.slow
 def test_a_limit_on_the_documented_side_of_zero_is_used_as_given(runner):
     result = runner.invoke(
         main, ["check", LIH, "--only", "two_electron.positive", "--tolerance", "two_electron.positive=-1e-3"]
@@ -249,6 +250,7 @@ def test_a_usage_error_is_one_line_naming_the_command_help(runner):
 # ------------------------------------------------------------------ words
 
 
+@pytest.mark.slow
 def test_one_check_and_one_warning_are_singular(runner, in_tmp):
     save(load(GOOD / "water_sto3g.json"), "w.json")
     assert runner.invoke(main, ["check", "w.json", "--only", "schema"]).stdout.endswith("pass (1 check)\n")

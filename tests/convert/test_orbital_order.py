@@ -92,6 +92,7 @@ def test_a_malformed_order_or_sign_list_is_refused_naming_the_option(order, sign
         convert(ham, orbital_order=order, orbital_signs=signs)
 
 
+@pytest.mark.slow
 def test_the_command_applies_an_order_and_signs_written_as_text(runner, tmp_path):
     source = GOOD / "water_sto3g.json"
     out = tmp_path / "water_relabelled.h5"

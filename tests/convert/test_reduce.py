@@ -226,6 +226,7 @@ def test_freezing_an_orbital_the_reference_leaves_open_needs_its_own_permission_
         reduce_active_space(ham, frozen=(0, 2, 3), active=(1, 4), allow_open_frozen=True)
 
 
+@pytest.mark.slow
 def test_the_command_writes_a_new_file_and_refuses_with_one_line(runner, tmp_path):
     source = GOOD / "lih_sto3g.h5"
     out = tmp_path / "lih_cas.json"

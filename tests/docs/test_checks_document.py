@@ -163,6 +163,7 @@ def test_exit_statuses(runner, tmp_path):
     assert runner.invoke(main, ["check", "--only", "no.such.check", str(good)]).exit_code == 2
 
 
+@pytest.mark.slow
 def test_strict_mode_fails_a_file_on_a_warning(runner, tmp_path):
     doc = example()
     doc["orbitals"] = {"count": 1, "basis": "restricted"}

@@ -221,6 +221,7 @@ def checked(runner, *paths) -> dict:
     return json.loads(result.stdout)
 
 
+@pytest.mark.slow
 def test_the_example_passes_every_check_in_both_containers(runner, tmp_path):
     json_path, hdf5_path = tmp_path / "h2.json", tmp_path / "h2.h5"
     write_example_json(json_path)
@@ -259,6 +260,7 @@ def test_the_printed_packed_forms_follow_the_index_formulas():
     assert unique == {"shape": [npair * (npair + 1) // 2], "data": unique_from_pairs(pairs["data"], npair)}
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("form", ["pairs", "unique", "physicist"])
 def test_every_storage_and_notation_of_the_example_has_the_one_fingerprint(runner, tmp_path, form):
     doc = example()
@@ -299,6 +301,7 @@ def checked_unreadable(runner, path) -> dict:
     return file
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize(
     ("name", "edit"),
     [
@@ -320,6 +323,7 @@ def test_unreadable_files_are_the_documented_ones(runner, tmp_path, name, edit):
     checked_unreadable(runner, path)
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize(
     ("name", "edit", "check_id"),
     [

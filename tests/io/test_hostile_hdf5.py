@@ -92,6 +92,7 @@ def test_a_soft_link_to_nowhere_is_a_schema_finding_naming_the_link(runner, good
     assert "/orbitals/irreps" in line and "/nowhere" in line
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("kind", ["hard", "soft"])
 @pytest.mark.parametrize("where", ["provenance", "references/hf"])
 def test_a_link_back_to_the_root_is_refused_as_a_loop(runner, good, kind, where):
@@ -178,6 +179,7 @@ def _declare_unwritten(path, n, chunks):
     return edited(path, edit)
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("n", [300, 1000])
 def test_a_small_file_declaring_a_huge_unwritten_chunked_array_is_refused_at_once(runner, good, n):
     path, _ = good
@@ -212,6 +214,7 @@ def test_a_chunked_array_with_one_chunk_missing_is_refused(runner, good):
     unreadable_with(runner, path, "/two_electron", "in 2 chunks but stores 1")
 
 
+@pytest.mark.slow
 def test_a_contiguous_array_whose_storage_was_never_allocated_is_refused(runner, good):
     path, tree = good
     edited(path, lambda h: replace_two_electron(h, shape=np.shape(tree["two_electron"]["array"]), dtype="f8"))
@@ -238,6 +241,7 @@ def test_a_fully_written_compressed_array_that_stores_less_than_it_declares_is_r
 # ------------------------------------------------------------------ damaged metadata
 
 
+@pytest.mark.slow
 def test_an_attribute_that_is_not_utf8_is_refused_naming_it(runner, good):
     path, _ = good
     edited(path, lambda h: h.attrs.__setitem__("title", np.bytes_(b"caf\xe9 \xff")))
@@ -303,6 +307,7 @@ def test_a_failing_fingerprint_at_the_end_of_a_run_is_a_finding(good, monkeypatc
     assert [r.id for r in failed] == ["checksum"] and "inflate() failed" in failed[0].message
 
 
+@pytest.mark.slow
 def test_one_bad_file_in_a_folder_leaves_the_reports_of_the_others(runner, good, tmp_path):
     path, _ = good
     folder = tmp_path / "batch"

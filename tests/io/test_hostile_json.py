@@ -85,6 +85,7 @@ def test_wrong_types_are_schema_findings_in_check_and_one_line_in_show(runner, t
     assert not (tmp_path / "out.h5").exists()
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("token", ["1e400", "-1e400", "9" * 400])
 def test_a_number_beyond_binary64_in_metadata_is_a_schema_finding(runner, tmp_path, document, token):
     path = written(tmp_path, core_energy_as(document, token))
@@ -95,6 +96,7 @@ def test_a_number_beyond_binary64_in_metadata_is_a_schema_finding(runner, tmp_pa
         load(path)
 
 
+@pytest.mark.slow
 def test_a_number_beyond_binary64_in_an_array_is_an_arrays_finite_finding(runner, tmp_path, document):
     document["two_electron"]["data"][5] = 0.125
     text = json.dumps(document).replace("0.125", "1e400", 1)
@@ -106,6 +108,7 @@ def test_a_number_beyond_binary64_in_an_array_is_an_arrays_finite_finding(runner
     assert finite["where"]["index"] == [0, 1, 0, 1]
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("token", ["NaN", "Infinity", "-Infinity"])
 def test_non_json_tokens_stay_unreadable_with_their_position(runner, tmp_path, document, token):
     path = written(tmp_path, core_energy_as(document, token))
@@ -114,6 +117,7 @@ def test_non_json_tokens_stay_unreadable_with_their_position(runner, tmp_path, d
     assert token.lstrip("-") in report["error"] and "column" in report["error"]
 
 
+@pytest.mark.slow
 @pytest.mark.parametrize("where", ["title", "electrons", "data"])
 def test_json_nested_a_hundred_thousand_deep_is_refused_without_recursion(runner, tmp_path, document, where):
     deep = "[" * 100_000 + "]" * 100_000
@@ -136,6 +140,7 @@ def test_nesting_within_the_bound_and_brackets_inside_strings_are_read(tmp_path,
     assert load(path).provenance["note"].startswith("[[[[")
 
 
+@pytest.mark.slow
 def test_a_nested_list_where_a_flat_one_belongs_is_reported_briefly_and_fully_in_json(runner, tmp_path, rng):
     document = json_document(random_tree(rng, n=4, wide=False))
     data = document["two_electron"]["data"]
@@ -155,6 +160,7 @@ def test_a_nested_list_where_a_flat_one_belongs_is_reported_briefly_and_fully_in
     assert "and 59 more" in text and len(text) < 2000
 
 
+@pytest.mark.slow
 def test_a_repeated_key_is_refused_naming_the_key(runner, tmp_path, document):
     text = json.dumps(document)
     text = text[:-1] + ', "title": "second"}'
@@ -168,6 +174,7 @@ def test_a_repeated_key_is_refused_naming_the_key(runner, tmp_path, document):
 # ------------------------------------------------------------------ symbolic links to nothing
 
 
+@pytest.mark.slow
 def test_a_dangling_link_named_on_the_command_line_is_reported_with_its_target(runner, tmp_path, document):
     good = written(tmp_path, json.dumps(document), "good.json")
     link = tmp_path / "gone.json"
@@ -180,6 +187,7 @@ def test_a_dangling_link_named_on_the_command_line_is_reported_with_its_target(r
     assert by_path[str(good)]["checks"], "the other file was judged"
 
 
+@pytest.mark.slow
 def test_a_dangling_link_met_in_a_folder_is_reported_not_skipped(runner, tmp_path, document):
     folder = tmp_path / "batch"
     folder.mkdir()
@@ -192,6 +200,7 @@ def test_a_dangling_link_met_in_a_folder_is_reported_not_skipped(runner, tmp_pat
     assert check(folder / "b.h5").status == "unreadable"
 
 
+@pytest.mark.slow
 def test_a_nul_character_in_a_provenance_key_is_a_schema_finding(runner, tmp_path, document):
     document["provenance"]["ab\x00cd"] = 1
     path = written(tmp_path, json.dumps(document))
@@ -200,6 +209,7 @@ def test_a_nul_character_in_a_provenance_key_is_a_schema_finding(runner, tmp_pat
     assert status == 1 and schema["status"] == "fail" and "NUL" in schema["message"]
 
 
+@pytest.mark.slow
 def test_a_400_digit_integer_among_array_values_is_a_schema_finding(runner, tmp_path, document):
     document["two_electron"]["data"][3] = -(10**400)
     path = written(tmp_path, json.dumps(document))
