@@ -23,10 +23,9 @@ from __future__ import annotations
 import numpy as np
 import pytest
 from builders import spin_orbital
-from click.testing import CliRunner
+from command_line import succeeded
 
 import integrity
-from integrity.cli import main
 
 pytestmark = pytest.mark.slow  # builds water with pyscf and converts it three times: a few seconds
 
@@ -60,18 +59,12 @@ CASES = [
 ]
 
 
-def _run(*args) -> str:
-    result = CliRunner().invoke(main, [str(a) for a in args])
-    assert result.exit_code == 0, result.output
-    return result.stdout
-
-
 @pytest.fixture(scope="module")
 def water_file(tmp_path_factory, one_openmp_thread):
     folder = tmp_path_factory.mktemp("published_mp2")
     (folder / "water.xyz").write_text(WATER_BOHR)
     path = folder / "water.h5"
-    _run("build", path, "--geometry", folder / "water.xyz", "--unit", "bohr", "--basis-set", "sto-3g")
+    succeeded("build", path, "--geometry", folder / "water.xyz", "--unit", "bohr", "--basis-set", "sto-3g")
     return path
 
 
@@ -80,7 +73,7 @@ def converted(request, water_file):
     """The spin-orbital, physicist, antisymmetrized file of one layout and container, as read back."""
     layout, container = request.param
     out = water_file.with_name(f"water_so_{layout}.{container}")
-    _run(
+    succeeded(
         "convert",
         water_file,
         out,

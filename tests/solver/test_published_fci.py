@@ -20,10 +20,9 @@ from __future__ import annotations
 import json
 
 import pytest
-from click.testing import CliRunner
+from command_line import succeeded
 
 import integrity
-from integrity.cli import main
 
 #: Source: J. Olsen, O. Christiansen, H. Koch and P. Jorgensen, J. Chem. Phys. 105, 5082 (1996),
 #: full-CI table, F- cc-pVDZ with the 1s frozen (from memory)
@@ -34,18 +33,12 @@ PUBLISHED_TOLERANCE = 5e-7
 pytestmark = pytest.mark.slow  # a 511,225-determinant solve and pyscf's full CI: about 15 s together
 
 
-def _run(*args) -> str:
-    result = CliRunner().invoke(main, [str(a) for a in args])
-    assert result.exit_code == 0, result.output
-    return result.stdout
-
-
 @pytest.fixture(scope="module")
 def fluoride(tmp_path_factory, one_openmp_thread):
     """F- cc-pVDZ, 1s frozen, built by the command line (no stored fci reference: it is the
     quantity under test here, and pyscf's is computed independently below)."""
     path = tmp_path_factory.mktemp("published_fci") / "fluoride.h5"
-    _run(
+    succeeded(
         "build",
         path,
         "--geometry",
@@ -64,7 +57,7 @@ def fluoride(tmp_path_factory, one_openmp_thread):
 
 @pytest.fixture(scope="module")
 def native_root(fluoride):
-    text = _run("solve", fluoride, "--engine", "native", "--format", "json", "--quiet")
+    text = succeeded("solve", fluoride, "--engine", "native", "--format", "json", "--quiet")
     (result,) = json.loads(text)["results"]
     assert result["engine"] == "native" and result["determinants"] == 511_225
     (root,) = result["roots"]
