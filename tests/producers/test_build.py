@@ -68,6 +68,17 @@ def hydroxyl_unrestricted():
     return build(HYDROXYL, "sto-3g", two_s=1, unrestricted=True)
 
 
+@pytest.fixture(scope="module")
+def hydroxyl_uhf():
+    """pyscf's own UHF of the same OH doublet (reference library), converged tightly."""
+    from pyscf import gto, scf
+
+    uhf = scf.UHF(gto.M(atom=HYDROXYL, basis="sto-3g", spin=1, verbose=0))
+    uhf.conv_tol = 1e-11
+    uhf.kernel()
+    return uhf
+
+
 # ---------------------------------------------------------------- H2, the minimal-basis model
 
 
@@ -343,9 +354,7 @@ def test_an_unrestricted_build_gives_spin_resolved_arrays(hydroxyl_unrestricted)
     assert (ham.electrons.alpha, ham.electrons.beta) == (5, 4)
 
 
-def test_the_unrestricted_hf_reference_is_the_energy_of_its_determinant(hydroxyl_unrestricted):
-    from pyscf import gto, scf
-
+def test_the_unrestricted_hf_reference_is_the_energy_of_its_determinant(hydroxyl_unrestricted, hydroxyl_uhf):
     ham = hydroxyl_unrestricted
     h, g = ham.one_electron, ham.two_electron.array  # g: [aa, ab, bb]
     alpha, beta = ham.reference("hf").occupation
@@ -354,26 +363,20 @@ def test_the_unrestricted_hf_reference_is_the_energy_of_its_determinant(hydroxyl
         energy += 0.5 * sum(g[block, i, i, j, j] - g[block, i, j, j, i] for i in occ for j in occ)
     energy += sum(g[1, i, i, j, j] for i in alpha for j in beta)  # (i_a i_a | j_b j_b)
     assert ham.reference("hf").energy == pytest.approx(energy, abs=1e-8)
-    mol = gto.M(atom=HYDROXYL, basis="sto-3g", spin=1, verbose=0)
-    uhf = scf.UHF(mol)
-    uhf.conv_tol = 1e-11
-    assert uhf.kernel() == pytest.approx(energy, abs=1e-7)
+    assert hydroxyl_uhf.e_tot == pytest.approx(energy, abs=1e-7)
 
 
-def test_the_unrestricted_full_space_fci_reference_is_pyscfs_full_ci(hydroxyl_unrestricted):
+def test_the_unrestricted_full_space_fci_reference_is_pyscfs_full_ci(hydroxyl_unrestricted, hydroxyl_uhf):
     """The full-space FCI of OH (doublet) equals pyscf's, from pyscf's own UHF orbitals.
 
     Source: pyscf ``fci.direct_uhf`` on integrals pyscf transforms itself (reference library).
     Full CI in the full space does not depend on the orbitals (common practice), so any
     orbital set pyscf converges to gives the same energy.
     """
-    from pyscf import ao2mo, fci, gto, scf
+    from pyscf import ao2mo, fci
 
-    ham = hydroxyl_unrestricted
-    mol = gto.M(atom=HYDROXYL, basis="sto-3g", spin=1, verbose=0)
-    uhf = scf.UHF(mol)
-    uhf.conv_tol = 1e-11
-    uhf.kernel()
+    ham, uhf = hydroxyl_unrestricted, hydroxyl_uhf
+    mol = uhf.mol
     ca, cb = uhf.mo_coeff
     h_ao, n = uhf.get_hcore(), ca.shape[1]
     h1 = (ca.T @ h_ao @ ca, cb.T @ h_ao @ cb)
